@@ -1,0 +1,4 @@
+// Runs anywhere. The service contract in one import.
+export * from './schemas';
+export * from './contract';
+export * from './service';

@@ -1,0 +1,84 @@
+// Runs in Node (main process, web server, CLI). Opens the database (WAL) and applies the numbered
+// SQL files in migrations/ in order, recording each in schema_migrations, each in its own transaction.
+import Database from 'better-sqlite3';
+import { mkdirSync, readdirSync, readFileSync } from 'node:fs';
+import { dirname, join, resolve } from 'node:path';
+import { BenchError } from '../../app/errors';
+import { migrationsDir } from '../paths';
+
+export type Db = Database.Database;
+
+export interface Migration {
+  version: number;
+  name: string;
+  sql: string;
+}
+
+/** Reads migrations/NNN_name.sql, ordered by number; a gap or a duplicate number is a packaging error. */
+export function loadMigrations(dir = migrationsDir()): Migration[] {
+  const files = readdirSync(dir).filter((f) => /^\d{3}_[a-z0-9_]+\.sql$/.test(f));
+  const list = files
+    .map((f) => ({ version: Number(f.slice(0, 3)), name: f.slice(4, -4), sql: readFileSync(join(dir, f), 'utf8') }))
+    .sort((a, b) => a.version - b.version);
+  list.forEach((m, i) => {
+    if (m.version !== i + 1) throw new Error(`migrations: expected version ${i + 1}, found ${m.version} (${m.name})`);
+  });
+  return list;
+}
+
+export interface OpenOptions {
+  /** Path to the better-sqlite3 native binding (the Electron shell passes its own ABI build). */
+  nativeBinding?: string;
+  readonly?: boolean;
+  migrations?: Migration[];
+}
+
+export function openDb(file: string, opts: OpenOptions = {}): Db {
+  if (file !== ':memory:') mkdirSync(dirname(resolve(file)), { recursive: true });
+  const nativeBinding = opts.nativeBinding ?? process.env.NULLBENCH_SQLITE_BINDING ?? undefined;
+  const db = new Database(file, { readonly: opts.readonly ?? false, nativeBinding });
+  db.pragma('journal_mode = WAL');
+  // FULL: a reading acknowledged to the user has reached the disk, even on power loss.
+  db.pragma('synchronous = FULL');
+  db.pragma('foreign_keys = ON');
+  db.pragma('busy_timeout = 5000');
+  if (!opts.readonly) migrate(db, opts.migrations ?? loadMigrations());
+  return db;
+}
+
+export function schemaVersion(db: Db): number {
+  const row = db
+    .prepare("SELECT name FROM sqlite_master WHERE type = 'table' AND name = 'schema_migrations'")
+    .get() as { name: string } | undefined;
+  if (!row) return 0;
+  const v = db.prepare('SELECT MAX(version) AS v FROM schema_migrations').get() as { v: number | null };
+  return v.v ?? 0;
+}
+
+export function migrate(db: Db, migrations: Migration[]): number {
+  db.exec(
+    'CREATE TABLE IF NOT EXISTS schema_migrations (version INTEGER PRIMARY KEY, name TEXT NOT NULL, applied_at TEXT NOT NULL)',
+  );
+  const current = schemaVersion(db);
+  const latest = migrations.length ? migrations[migrations.length - 1].version : 0;
+  if (current > latest) {
+    throw new BenchError(
+      'ECONFLICT',
+      `this database has schema version ${current}, newer than this Nullbench understands (${latest}); ` +
+        'open it with a newer Nullbench, nothing was changed',
+      'database',
+    );
+  }
+  for (const m of migrations) {
+    if (m.version <= current) continue;
+    db.transaction(() => {
+      db.exec(m.sql);
+      db.prepare('INSERT INTO schema_migrations (version, name, applied_at) VALUES (?, ?, ?)').run(
+        m.version,
+        m.name,
+        new Date().toISOString(),
+      );
+    })();
+  }
+  return latest;
+}

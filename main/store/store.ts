@@ -1,0 +1,439 @@
+// Runs in Node. The repositories over the database: designs, revisions, units, sessions, readings, gaps.
+// Every write goes through a transaction; a throw rolls it back, so nothing is half-written.
+import { createHash, randomUUID } from 'node:crypto';
+import { BenchError } from '../../app/errors';
+import type {
+  Design,
+  PointRole,
+  Reading,
+  ReceiverProfile,
+  Revision,
+  Session,
+  SessionSummary,
+  TrimDef,
+  TrimPositions,
+  Tree,
+  Unit,
+} from '../../app/api';
+import { openDb, type Db, type OpenOptions } from './db';
+
+export interface NewSession {
+  unitId: string;
+  receiver: ReceiverProfile;
+  path: unknown[];
+  carrierHz: number;
+  toneHz: number;
+  txPepDbm: number;
+  rxPepDbm: number;
+  operator: string;
+  notes: string;
+  trims: TrimDef[];
+  startedAt?: string;
+  id?: string;
+}
+
+export interface NewReading {
+  sessionId: string;
+  t: number;
+  freqHz: number;
+  role: PointRole;
+  raw: number;
+  dbmRx: number;
+  dbmDut: number;
+  uDb: number;
+  settled: boolean;
+  kept: boolean;
+  floorLimited: boolean;
+  overload: boolean;
+  trims: TrimPositions;
+  /** The calibration and the path this reading was corrected with. */
+  calibration: unknown;
+  path: unknown[];
+  note?: string;
+  uid?: string;
+}
+
+interface ReadingRow {
+  id: number;
+  session_id: string;
+  t_ms: number;
+  freq_hz: number;
+  role: PointRole;
+  raw: number;
+  dbm_rx: number;
+  dbm_dut: number;
+  u_db: number;
+  settled: number;
+  kept: number;
+  floor_limited: number;
+  overload: number;
+  trims_json: string;
+  note: string;
+}
+
+interface SessionRow {
+  id: string;
+  unit_id: string;
+  receiver_json: string;
+  path_json: string;
+  carrier_hz: number;
+  tone_hz: number;
+  tx_pep_dbm: number;
+  rx_pep_dbm: number;
+  operator: string;
+  notes: string;
+  trims_json: string;
+  started_at: string;
+  ended_at: string | null;
+}
+
+const now = () => new Date().toISOString();
+
+function rowToReading(r: ReadingRow): Reading {
+  return {
+    id: r.id,
+    sessionId: r.session_id,
+    t: r.t_ms,
+    freqHz: r.freq_hz,
+    role: r.role,
+    raw: r.raw,
+    dbmRx: r.dbm_rx,
+    dbmDut: r.dbm_dut,
+    uDb: r.u_db,
+    settled: r.settled === 1,
+    kept: r.kept === 1,
+    floorLimited: r.floor_limited === 1,
+    overload: r.overload === 1,
+    trims: JSON.parse(r.trims_json) as TrimPositions,
+    note: r.note,
+  };
+}
+
+function rowToSession(r: SessionRow): Session {
+  return {
+    id: r.id,
+    unitId: r.unit_id,
+    receiver: JSON.parse(r.receiver_json) as ReceiverProfile,
+    path: JSON.parse(r.path_json) as unknown[],
+    carrierHz: r.carrier_hz,
+    toneHz: r.tone_hz,
+    txPepDbm: r.tx_pep_dbm,
+    rxPepDbm: r.rx_pep_dbm,
+    operator: r.operator,
+    notes: r.notes,
+    trims: JSON.parse(r.trims_json) as TrimDef[],
+    startedAt: r.started_at,
+    endedAt: r.ended_at,
+  };
+}
+
+function isUniqueViolation(e: unknown): boolean {
+  return e instanceof Error && /UNIQUE constraint failed/.test(e.message);
+}
+
+export class Store {
+  readonly db: Db;
+  readonly file: string;
+  private readonly insertReadingStmt;
+  private readonly correctionIds = new Map<string, number>();
+
+  constructor(file: string, opts: OpenOptions = {}) {
+    this.file = file;
+    this.db = openDb(file, opts);
+    this.insertReadingStmt = this.db.prepare(
+      `INSERT INTO readings (uid, session_id, t_ms, freq_hz, role, raw, dbm_rx, dbm_dut, u_db, settled, kept,
+         floor_limited, overload, trims_json, correction_id, note)
+       VALUES (@uid, @session_id, @t_ms, @freq_hz, @role, @raw, @dbm_rx, @dbm_dut, @u_db, @settled, @kept,
+         @floor_limited, @overload, @trims_json, @correction_id, @note)`,
+    );
+  }
+
+  close(): void {
+    this.db.close();
+  }
+
+  /** Runs fn in one transaction; a throw rolls everything back. */
+  tx<T>(fn: () => T): T {
+    return this.db.transaction(fn)();
+  }
+
+  // ---- designs, revisions, units -------------------------------------------------------------
+
+  createDesign(input: { name: string; notes: string; id?: string; createdAt?: string }): Design {
+    const d: Design = { id: input.id ?? randomUUID(), name: input.name, notes: input.notes, createdAt: input.createdAt ?? now() };
+    try {
+      this.db.prepare('INSERT INTO designs (id, name, notes, created_at) VALUES (?, ?, ?, ?)').run(d.id, d.name, d.notes, d.createdAt);
+    } catch (e) {
+      if (isUniqueViolation(e)) throw new BenchError('ECONFLICT', `a design named "${d.name}" already exists`, 'name');
+      throw e;
+    }
+    return d;
+  }
+
+  getDesign(id: string): Design {
+    const r = this.db.prepare('SELECT id, name, notes, created_at AS createdAt FROM designs WHERE id = ?').get(id) as
+      | Design
+      | undefined;
+    if (!r) throw new BenchError('ENOTFOUND', `no design with id "${id}"`, 'designId');
+    return r;
+  }
+
+  createRevision(input: { designId: string; name: string; changes: string; id?: string; createdAt?: string }): Revision {
+    this.getDesign(input.designId);
+    const r: Revision = {
+      id: input.id ?? randomUUID(),
+      designId: input.designId,
+      name: input.name,
+      changes: input.changes,
+      createdAt: input.createdAt ?? now(),
+    };
+    try {
+      this.db
+        .prepare('INSERT INTO revisions (id, design_id, name, changes, created_at) VALUES (?, ?, ?, ?, ?)')
+        .run(r.id, r.designId, r.name, r.changes, r.createdAt);
+    } catch (e) {
+      if (isUniqueViolation(e)) throw new BenchError('ECONFLICT', `revision "${r.name}" already exists in this design`, 'name');
+      throw e;
+    }
+    return r;
+  }
+
+  getRevision(id: string): Revision {
+    const r = this.db
+      .prepare('SELECT id, design_id AS designId, name, changes, created_at AS createdAt FROM revisions WHERE id = ?')
+      .get(id) as Revision | undefined;
+    if (!r) throw new BenchError('ENOTFOUND', `no revision with id "${id}"`, 'revisionId');
+    return r;
+  }
+
+  createUnit(input: {
+    revisionId: string;
+    serial: string;
+    buildDate: string;
+    builder: string;
+    notes: string;
+    id?: string;
+    createdAt?: string;
+  }): Unit {
+    this.getRevision(input.revisionId);
+    const u: Unit = {
+      id: input.id ?? randomUUID(),
+      revisionId: input.revisionId,
+      serial: input.serial,
+      buildDate: input.buildDate,
+      builder: input.builder,
+      notes: input.notes,
+      createdAt: input.createdAt ?? now(),
+    };
+    try {
+      this.db
+        .prepare(
+          'INSERT INTO units (id, revision_id, serial, build_date, builder, notes, created_at) VALUES (?, ?, ?, ?, ?, ?, ?)',
+        )
+        .run(u.id, u.revisionId, u.serial, u.buildDate, u.builder, u.notes, u.createdAt);
+    } catch (e) {
+      if (isUniqueViolation(e)) throw new BenchError('ECONFLICT', `a unit with serial "${u.serial}" already exists`, 'serial');
+      throw e;
+    }
+    return u;
+  }
+
+  getUnit(id: string): Unit {
+    const u = this.db
+      .prepare(
+        `SELECT id, revision_id AS revisionId, serial, build_date AS buildDate, builder, notes, created_at AS createdAt
+         FROM units WHERE id = ?`,
+      )
+      .get(id) as Unit | undefined;
+    if (!u) throw new BenchError('ENOTFOUND', `no unit with id "${id}"`, 'unitId');
+    return u;
+  }
+
+  findUnitBySerial(serial: string): Unit | undefined {
+    const u = this.db.prepare('SELECT id FROM units WHERE serial = ?').get(serial) as { id: string } | undefined;
+    return u ? this.getUnit(u.id) : undefined;
+  }
+
+  tree(): Tree {
+    const designs = this.db.prepare('SELECT id, name, notes, created_at AS createdAt FROM designs ORDER BY name').all() as Design[];
+    const revisions = this.db
+      .prepare('SELECT id, design_id AS designId, name, changes, created_at AS createdAt FROM revisions ORDER BY name')
+      .all() as Revision[];
+    const units = this.db
+      .prepare(
+        `SELECT id, revision_id AS revisionId, serial, build_date AS buildDate, builder, notes, created_at AS createdAt
+         FROM units ORDER BY serial`,
+      )
+      .all() as Unit[];
+    return designs.map((d) => ({
+      ...d,
+      revisions: revisions
+        .filter((r) => r.designId === d.id)
+        .map((r) => ({ ...r, units: units.filter((u) => u.revisionId === r.id) })),
+    }));
+  }
+
+  // ---- sessions ------------------------------------------------------------------------------
+
+  createSession(s: NewSession): Session {
+    this.getUnit(s.unitId);
+    const id = s.id ?? randomUUID();
+    this.db
+      .prepare(
+        `INSERT INTO sessions (id, unit_id, receiver_json, path_json, carrier_hz, tone_hz, tx_pep_dbm, rx_pep_dbm,
+           operator, notes, trims_json, started_at, ended_at)
+         VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, NULL)`,
+      )
+      .run(
+        id,
+        s.unitId,
+        JSON.stringify(s.receiver),
+        JSON.stringify(s.path),
+        s.carrierHz,
+        s.toneHz,
+        s.txPepDbm,
+        s.rxPepDbm,
+        s.operator,
+        s.notes,
+        JSON.stringify(s.trims),
+        s.startedAt ?? now(),
+      );
+    return this.getSession(id);
+  }
+
+  getSession(id: string): Session {
+    const r = this.db.prepare('SELECT * FROM sessions WHERE id = ?').get(id) as SessionRow | undefined;
+    if (!r) throw new BenchError('ENOTFOUND', `no session with id "${id}"`, 'sessionId');
+    return rowToSession(r);
+  }
+
+  endSession(id: string, at = now()): void {
+    this.db.prepare('UPDATE sessions SET ended_at = ? WHERE id = ? AND ended_at IS NULL').run(at, id);
+  }
+
+  listSessions(unitId?: string): SessionSummary[] {
+    const rows = this.db
+      .prepare(
+        `SELECT s.id, s.unit_id AS unitId, u.serial, r.name AS revision, d.name AS design, s.started_at AS startedAt,
+                s.operator,
+                (SELECT COUNT(*) FROM readings x WHERE x.session_id = s.id) AS readings,
+                (SELECT COUNT(*) FROM readings x WHERE x.session_id = s.id AND x.kept = 1) AS kept,
+                (SELECT MIN(x.dbm_dut) FROM readings x WHERE x.session_id = s.id AND x.kept = 1 AND x.role = 'carrier')
+                  AS bestCarrierDbm
+         FROM sessions s JOIN units u ON u.id = s.unit_id JOIN revisions r ON r.id = u.revision_id
+              JOIN designs d ON d.id = r.design_id
+         WHERE (? IS NULL OR s.unit_id = ?)
+         ORDER BY s.started_at DESC`,
+      )
+      .all(unitId ?? null, unitId ?? null) as SessionSummary[];
+    return rows;
+  }
+
+  // ---- readings ------------------------------------------------------------------------------
+
+  private correctionId(calibration: unknown, path: unknown[]): number {
+    const cal = JSON.stringify(calibration ?? null);
+    const p = JSON.stringify(path);
+    const digest = createHash('sha256').update(cal).update('\0').update(p).digest('hex');
+    const cached = this.correctionIds.get(digest);
+    if (cached !== undefined) return cached;
+    this.db
+      .prepare('INSERT OR IGNORE INTO corrections (digest, calibration_json, path_json) VALUES (?, ?, ?)')
+      .run(digest, cal, p);
+    const row = this.db.prepare('SELECT id FROM corrections WHERE digest = ?').get(digest) as { id: number };
+    this.correctionIds.set(digest, row.id);
+    return row.id;
+  }
+
+  /** Stores one reading and returns it with its row id. The write is committed when this returns. */
+  addReading(r: NewReading): Reading {
+    return this.tx(() => this.insertReading(r));
+  }
+
+  /** Stores many readings in one transaction. */
+  addReadings(list: NewReading[]): Reading[] {
+    return this.tx(() => list.map((r) => this.insertReading(r)));
+  }
+
+  private insertReading(r: NewReading): Reading {
+    for (const [k, v] of Object.entries({ t: r.t, freqHz: r.freqHz, raw: r.raw, dbmRx: r.dbmRx, dbmDut: r.dbmDut, uDb: r.uDb })) {
+      if (!Number.isFinite(v)) throw new BenchError('EINVAL', `must be a finite number, got ${v}`, `reading.${k}`);
+    }
+    const info = this.insertReadingStmt.run({
+      uid: r.uid ?? randomUUID(),
+      session_id: r.sessionId,
+      t_ms: r.t,
+      freq_hz: r.freqHz,
+      role: r.role,
+      raw: r.raw,
+      dbm_rx: r.dbmRx,
+      dbm_dut: r.dbmDut,
+      u_db: r.uDb,
+      settled: r.settled ? 1 : 0,
+      kept: r.kept ? 1 : 0,
+      floor_limited: r.floorLimited ? 1 : 0,
+      overload: r.overload ? 1 : 0,
+      trims_json: JSON.stringify(r.trims),
+      correction_id: this.correctionId(r.calibration, r.path),
+      note: r.note ?? '',
+    });
+    return {
+      id: Number(info.lastInsertRowid),
+      sessionId: r.sessionId,
+      t: r.t,
+      freqHz: r.freqHz,
+      role: r.role,
+      raw: r.raw,
+      dbmRx: r.dbmRx,
+      dbmDut: r.dbmDut,
+      uDb: r.uDb,
+      settled: r.settled,
+      kept: r.kept,
+      floorLimited: r.floorLimited,
+      overload: r.overload,
+      trims: r.trims,
+      note: r.note ?? '',
+    };
+  }
+
+  readings(sessionId: string, opts: { keptOnly?: boolean; limit?: number } = {}): Reading[] {
+    this.getSession(sessionId);
+    const rows = this.db
+      .prepare(
+        `SELECT * FROM (SELECT * FROM readings WHERE session_id = ? AND (? = 0 OR kept = 1) ORDER BY t_ms DESC, id DESC LIMIT ?)
+         ORDER BY t_ms, id`,
+      )
+      .all(sessionId, opts.keptOnly ? 1 : 0, opts.limit ?? 1_000_000) as ReadingRow[];
+    return rows.map(rowToReading);
+  }
+
+  /** The calibration and path a stored reading was corrected with. */
+  correctionOf(readingId: number): { calibration: unknown; path: unknown[] } {
+    const r = this.db
+      .prepare(
+        'SELECT c.calibration_json, c.path_json FROM readings x JOIN corrections c ON c.id = x.correction_id WHERE x.id = ?',
+      )
+      .get(readingId) as { calibration_json: string; path_json: string } | undefined;
+    if (!r) throw new BenchError('ENOTFOUND', `no reading with id ${readingId}`, 'readingId');
+    return { calibration: JSON.parse(r.calibration_json), path: JSON.parse(r.path_json) as unknown[] };
+  }
+
+  addGap(sessionId: string, tStartMs: number, code: string, message: string): number {
+    const info = this.db
+      .prepare('INSERT INTO gaps (session_id, t_start_ms, t_end_ms, code, message) VALUES (?, ?, NULL, ?, ?)')
+      .run(sessionId, tStartMs, code, message);
+    return Number(info.lastInsertRowid);
+  }
+
+  closeGap(id: number, tEndMs: number): void {
+    this.db.prepare('UPDATE gaps SET t_end_ms = ? WHERE id = ?').run(tEndMs, id);
+  }
+
+  gaps(sessionId: string): { id: number; tStartMs: number; tEndMs: number | null; code: string; message: string }[] {
+    return this.db
+      .prepare(
+        'SELECT id, t_start_ms AS tStartMs, t_end_ms AS tEndMs, code, message FROM gaps WHERE session_id = ? ORDER BY id',
+      )
+      .all(sessionId) as { id: number; tStartMs: number; tEndMs: number | null; code: string; message: string }[];
+  }
+}

@@ -1,0 +1,51 @@
+// Runs in Node. The one test command: every test file under test/ (or one group: unit, main, e2e)
+// through node's built-in runner with tsx, then a plain closing line "N passed, N failed".
+import { spawn } from 'node:child_process';
+import { readdirSync, statSync, mkdirSync } from 'node:fs';
+import { join } from 'node:path';
+
+const groups = { unit: ['test/app'], main: ['test/main'], e2e: ['test/e2e'] };
+const want = process.argv[2];
+const roots = want ? groups[want] : ['test/app', 'test/main', 'test/e2e'];
+if (!roots) {
+  console.error(`unknown test group "${want}"; use one of: ${Object.keys(groups).join(', ')}`);
+  process.exit(2);
+}
+
+function walk(dir) {
+  let out = [];
+  let names = [];
+  try {
+    names = readdirSync(dir);
+  } catch {
+    return out;
+  }
+  for (const n of names.sort()) {
+    const p = join(dir, n);
+    if (statSync(p).isDirectory()) out = out.concat(walk(p));
+    else if (n.endsWith('.test.ts')) out.push(p);
+  }
+  return out;
+}
+
+const files = roots.flatMap(walk);
+mkdirSync('test-artifacts', { recursive: true });
+const args = ['--import', 'tsx', '--test', '--test-reporter=spec', '--test-concurrency=2', ...files];
+const child = spawn(process.execPath, args, { stdio: ['ignore', 'pipe', 'inherit'] });
+let pass = 0;
+let fail = 0;
+let skipped = 0;
+let tail = '';
+child.stdout.on('data', (buf) => {
+  process.stdout.write(buf);
+  tail = (tail + buf.toString()).slice(-4000);
+});
+child.on('close', (code) => {
+  const m = (k) => Number((tail.match(new RegExp(`ℹ ${k} (\\d+)`)) || [])[1] || 0);
+  pass = m('pass');
+  fail = m('fail');
+  skipped = m('skipped') + m('todo');
+  if (code !== 0 && fail === 0) fail = 1;
+  console.log(`${pass} passed, ${fail} failed${skipped ? `, ${skipped} skipped` : ''}`);
+  process.exit(code === 0 && fail === 0 && pass > 0 ? 0 : 1);
+});
