@@ -18,10 +18,15 @@ export interface Migration {
 export function loadMigrations(dir = migrationsDir()): Migration[] {
   const files = readdirSync(dir).filter((f) => /^\d{3}_[a-z0-9_]+\.sql$/.test(f));
   const list = files
-    .map((f) => ({ version: Number(f.slice(0, 3)), name: f.slice(4, -4), sql: readFileSync(join(dir, f), 'utf8') }))
+    .map((f) => ({
+      version: Number(f.slice(0, 3)),
+      name: f.slice(4, -4),
+      sql: readFileSync(join(dir, f), 'utf8'),
+    }))
     .sort((a, b) => a.version - b.version);
   list.forEach((m, i) => {
-    if (m.version !== i + 1) throw new Error(`migrations: expected version ${i + 1}, found ${m.version} (${m.name})`);
+    if (m.version !== i + 1)
+      throw new Error(`migrations: expected version ${i + 1}, found ${m.version} (${m.name})`);
   });
   return list;
 }

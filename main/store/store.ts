@@ -160,25 +160,39 @@ export class Store {
   // ---- designs, revisions, units -------------------------------------------------------------
 
   createDesign(input: { name: string; notes: string; id?: string; createdAt?: string }): Design {
-    const d: Design = { id: input.id ?? randomUUID(), name: input.name, notes: input.notes, createdAt: input.createdAt ?? now() };
+    const d: Design = {
+      id: input.id ?? randomUUID(),
+      name: input.name,
+      notes: input.notes,
+      createdAt: input.createdAt ?? now(),
+    };
     try {
-      this.db.prepare('INSERT INTO designs (id, name, notes, created_at) VALUES (?, ?, ?, ?)').run(d.id, d.name, d.notes, d.createdAt);
+      this.db
+        .prepare('INSERT INTO designs (id, name, notes, created_at) VALUES (?, ?, ?, ?)')
+        .run(d.id, d.name, d.notes, d.createdAt);
     } catch (e) {
-      if (isUniqueViolation(e)) throw new BenchError('ECONFLICT', `a design named "${d.name}" already exists`, 'name');
+      if (isUniqueViolation(e))
+        throw new BenchError('ECONFLICT', `a design named "${d.name}" already exists`, 'name');
       throw e;
     }
     return d;
   }
 
   getDesign(id: string): Design {
-    const r = this.db.prepare('SELECT id, name, notes, created_at AS createdAt FROM designs WHERE id = ?').get(id) as
-      | Design
-      | undefined;
+    const r = this.db
+      .prepare('SELECT id, name, notes, created_at AS createdAt FROM designs WHERE id = ?')
+      .get(id) as Design | undefined;
     if (!r) throw new BenchError('ENOTFOUND', `no design with id "${id}"`, 'designId');
     return r;
   }
 
-  createRevision(input: { designId: string; name: string; changes: string; id?: string; createdAt?: string }): Revision {
+  createRevision(input: {
+    designId: string;
+    name: string;
+    changes: string;
+    id?: string;
+    createdAt?: string;
+  }): Revision {
     this.getDesign(input.designId);
     const r: Revision = {
       id: input.id ?? randomUUID(),
@@ -192,7 +206,8 @@ export class Store {
         .prepare('INSERT INTO revisions (id, design_id, name, changes, created_at) VALUES (?, ?, ?, ?, ?)')
         .run(r.id, r.designId, r.name, r.changes, r.createdAt);
     } catch (e) {
-      if (isUniqueViolation(e)) throw new BenchError('ECONFLICT', `revision "${r.name}" already exists in this design`, 'name');
+      if (isUniqueViolation(e))
+        throw new BenchError('ECONFLICT', `revision "${r.name}" already exists in this design`, 'name');
       throw e;
     }
     return r;
@@ -200,7 +215,9 @@ export class Store {
 
   getRevision(id: string): Revision {
     const r = this.db
-      .prepare('SELECT id, design_id AS designId, name, changes, created_at AS createdAt FROM revisions WHERE id = ?')
+      .prepare(
+        'SELECT id, design_id AS designId, name, changes, created_at AS createdAt FROM revisions WHERE id = ?',
+      )
       .get(id) as Revision | undefined;
     if (!r) throw new BenchError('ENOTFOUND', `no revision with id "${id}"`, 'revisionId');
     return r;
@@ -232,7 +249,8 @@ export class Store {
         )
         .run(u.id, u.revisionId, u.serial, u.buildDate, u.builder, u.notes, u.createdAt);
     } catch (e) {
-      if (isUniqueViolation(e)) throw new BenchError('ECONFLICT', `a unit with serial "${u.serial}" already exists`, 'serial');
+      if (isUniqueViolation(e))
+        throw new BenchError('ECONFLICT', `a unit with serial "${u.serial}" already exists`, 'serial');
       throw e;
     }
     return u;
@@ -250,14 +268,19 @@ export class Store {
   }
 
   findUnitBySerial(serial: string): Unit | undefined {
-    const u = this.db.prepare('SELECT id FROM units WHERE serial = ?').get(serial) as { id: string } | undefined;
+    const u = this.db.prepare('SELECT id FROM units WHERE serial = ?').get(serial) as
+      { id: string } | undefined;
     return u ? this.getUnit(u.id) : undefined;
   }
 
   tree(): Tree {
-    const designs = this.db.prepare('SELECT id, name, notes, created_at AS createdAt FROM designs ORDER BY name').all() as Design[];
+    const designs = this.db
+      .prepare('SELECT id, name, notes, created_at AS createdAt FROM designs ORDER BY name')
+      .all() as Design[];
     const revisions = this.db
-      .prepare('SELECT id, design_id AS designId, name, changes, created_at AS createdAt FROM revisions ORDER BY name')
+      .prepare(
+        'SELECT id, design_id AS designId, name, changes, created_at AS createdAt FROM revisions ORDER BY name',
+      )
       .all() as Revision[];
     const units = this.db
       .prepare(
@@ -356,8 +379,16 @@ export class Store {
   }
 
   private insertReading(r: NewReading): Reading {
-    for (const [k, v] of Object.entries({ t: r.t, freqHz: r.freqHz, raw: r.raw, dbmRx: r.dbmRx, dbmDut: r.dbmDut, uDb: r.uDb })) {
-      if (!Number.isFinite(v)) throw new BenchError('EINVAL', `must be a finite number, got ${v}`, `reading.${k}`);
+    for (const [k, v] of Object.entries({
+      t: r.t,
+      freqHz: r.freqHz,
+      raw: r.raw,
+      dbmRx: r.dbmRx,
+      dbmDut: r.dbmDut,
+      uDb: r.uDb,
+    })) {
+      if (!Number.isFinite(v))
+        throw new BenchError('EINVAL', `must be a finite number, got ${v}`, `reading.${k}`);
     }
     const info = this.insertReadingStmt.run({
       uid: r.uid ?? randomUUID(),
@@ -429,11 +460,19 @@ export class Store {
     this.db.prepare('UPDATE gaps SET t_end_ms = ? WHERE id = ?').run(tEndMs, id);
   }
 
-  gaps(sessionId: string): { id: number; tStartMs: number; tEndMs: number | null; code: string; message: string }[] {
+  gaps(
+    sessionId: string,
+  ): { id: number; tStartMs: number; tEndMs: number | null; code: string; message: string }[] {
     return this.db
       .prepare(
         'SELECT id, t_start_ms AS tStartMs, t_end_ms AS tEndMs, code, message FROM gaps WHERE session_id = ? ORDER BY id',
       )
-      .all(sessionId) as { id: number; tStartMs: number; tEndMs: number | null; code: string; message: string }[];
+      .all(sessionId) as {
+      id: number;
+      tStartMs: number;
+      tEndMs: number | null;
+      code: string;
+      message: string;
+    }[];
   }
 }

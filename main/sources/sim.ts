@@ -1,0 +1,125 @@
+// Runs in Node. The simulated bench as a level source: the default, so Nullbench runs with no hardware.
+import { BenchError } from '../../app/errors';
+import { SimBench } from '../sim/bench';
+import type { LevelSource, RawSample, SourceCaps, SourceDriver } from './types';
+
+const CAPS: SourceCaps = { tune: true, trims: true, unbalance: true };
+
+export interface SimSpec {
+  seed: number;
+  lossDb: number;
+  virtualTime: boolean;
+  carrierHz?: number;
+  toneHz?: number;
+  pepDbm?: number;
+  leakageDbc?: number;
+  startMs?: number;
+}
+
+/** Parses "sim", "sim:seed=7", "sim:seed=7,loss=50,fast" (fast = virtual clock, no waiting). */
+export function parseSimSpec(spec: string): SimSpec {
+  const out: SimSpec = { seed: 1, lossDb: 50, virtualTime: false };
+  const rest = spec.trim().slice(3);
+  if (rest === '') return out;
+  if (!rest.startsWith(':'))
+    throw new BenchError('EINVAL', `expected "sim" or "sim:key=value,...", got "${spec}"`, 'source');
+  for (const [i, part] of rest.slice(1).split(',').entries()) {
+    if (part === '') continue;
+    if (part === 'fast') {
+      out.virtualTime = true;
+      continue;
+    }
+    const [k, v, extra] = part.split('=');
+    const n = Number(v);
+    const where = `source item ${i + 1} ("${part}")`;
+    if (extra !== undefined || v === undefined || v.trim() === '' || !Number.isFinite(n))
+      throw new BenchError(
+        'EINVAL',
+        'expected key=number (seed, loss, carrier, tone, pep, leak, t0) or "fast"',
+        where,
+      );
+    if (k === 'seed') out.seed = Math.trunc(n);
+    else if (k === 'loss') {
+      if (n < 0 || n > 120) throw new BenchError('EINVAL', 'path loss must be 0..120 dB', where);
+      out.lossDb = n;
+    } else if (k === 'carrier') out.carrierHz = n;
+    else if (k === 'tone') out.toneHz = n;
+    else if (k === 'pep') out.pepDbm = n;
+    else if (k === 'leak') out.leakageDbc = n;
+    else if (k === 't0') out.startMs = n;
+    else
+      throw new BenchError(
+        'EINVAL',
+        `unknown key "${k}" (use seed, loss, carrier, tone, pep, leak, t0 or fast)`,
+        where,
+      );
+  }
+  return out;
+}
+
+export class SimSource implements LevelSource {
+  readonly kind = 'sim';
+  readonly caps = CAPS;
+  readonly bench: SimBench;
+
+  constructor(
+    readonly spec: string,
+    opts: SimSpec,
+  ) {
+    this.bench = new SimBench({
+      seed: opts.seed,
+      pathLossDb: opts.lossDb,
+      virtualTime: opts.virtualTime,
+      startMs: opts.startMs,
+      transmitter: {
+        ...(opts.leakageDbc !== undefined ? { leakageDbc: opts.leakageDbc } : {}),
+        ...(opts.carrierHz ? { carrierHz: opts.carrierHz } : {}),
+        ...(opts.toneHz ? { toneHz: opts.toneHz } : {}),
+        ...(opts.pepDbm !== undefined ? { pepDbm: opts.pepDbm } : {}),
+      },
+    });
+  }
+
+  get noiseFloorDbm(): number {
+    return this.bench.rx.noiseFloorDbm();
+  }
+
+  async open(): Promise<void> {}
+  async close(): Promise<void> {}
+
+  async setFrequency(hz: number): Promise<void> {
+    this.bench.rx.tune(hz);
+  }
+
+  async read(): Promise<RawSample> {
+    if (!this.bench.virtualTime) await new Promise((r) => setTimeout(r, this.bench.rx.cfg.latencyMs));
+    const m = this.bench.read();
+    return { raw: m.strengthDb, quantity: 'strength-db', freqHz: m.freqHz, t: m.t };
+  }
+
+  async setTrims(trims: Record<string, number>): Promise<void> {
+    this.bench.tx.setTrims(trims);
+  }
+
+  async setUnbalanced(on: boolean): Promise<void> {
+    this.bench.tx.setUnbalanced(on);
+  }
+
+  now(): number {
+    return this.bench.now();
+  }
+
+  async sleep(ms: number): Promise<void> {
+    if (this.bench.virtualTime) this.bench.wait(ms);
+    else await new Promise((r) => setTimeout(r, ms));
+  }
+}
+
+export const simDriver: SourceDriver = {
+  kind: 'sim',
+  summary: 'the built-in simulated bench (a DSB transmitter with two balance trimmers, a receiver, a pad)',
+  syntax: 'sim[:seed=N,loss=DB,carrier=HZ,tone=HZ,pep=DBM,leak=DBC,fast]',
+  caps: CAPS,
+  matches: (spec) => spec === 'sim' || spec.startsWith('sim:'),
+  create: (spec) => new SimSource(spec, parseSimSpec(spec)),
+};
