@@ -3,7 +3,20 @@
 import js from '@eslint/js';
 import tseslint from 'typescript-eslint';
 
-const nodeBuiltins = ['fs', 'path', 'os', 'child_process', 'net', 'http', 'crypto', 'worker_threads', 'stream', 'url', 'util', 'events'];
+const nodeBuiltins = [
+  'fs',
+  'path',
+  'os',
+  'child_process',
+  'net',
+  'http',
+  'crypto',
+  'worker_threads',
+  'stream',
+  'url',
+  'util',
+  'events',
+];
 
 export default tseslint.config(
   { ignores: ['node_modules/**', 'dist/**', 'build/**', 'test-artifacts/**'] },
@@ -21,8 +34,14 @@ export default tseslint.config(
         'error',
         {
           patterns: [
-            { group: ['**/main/**', '../main', '../../main', '**/renderer/**', '../renderer'], message: 'app/ must not import from main/ or renderer/ (see DESIGN.md).' },
-            { group: nodeBuiltins.flatMap((m) => [m, `node:${m}`]), message: 'app/ is runtime-free: no Node built-ins.' },
+            {
+              group: ['**/main/**', '../main', '../../main', '**/renderer/**', '../renderer'],
+              message: 'app/ must not import from main/ or renderer/ (see DESIGN.md).',
+            },
+            {
+              group: nodeBuiltins.flatMap((m) => [m, `node:${m}`]),
+              message: 'app/ is runtime-free: no Node built-ins.',
+            },
           ],
         },
       ],
@@ -33,12 +52,21 @@ export default tseslint.config(
     rules: {
       'no-restricted-imports': [
         'error',
-        { patterns: [{ group: ['**/main/**', '../main', '../../main'], message: 'renderer/ talks to main/ only through the API client.' }] },
+        {
+          patterns: [
+            {
+              group: ['**/main/**', '../main', '../../main'],
+              message: 'renderer/ talks to main/ only through the API client.',
+            },
+          ],
+        },
       ],
     },
   },
   {
     files: ['**/*.js', '**/*.mjs', '**/*.cjs'],
-    languageOptions: { globals: { process: 'readonly', console: 'readonly', URL: 'readonly', setTimeout: 'readonly' } },
+    languageOptions: {
+      globals: { process: 'readonly', console: 'readonly', URL: 'readonly', setTimeout: 'readonly' },
+    },
   },
 );

@@ -28,7 +28,8 @@ export function rendererDir(): string {
 export function userDataDir(): string {
   if (process.env.NULLBENCH_HOME) return resolve(process.env.NULLBENCH_HOME);
   const home = homedir();
-  if (process.platform === 'win32') return join(process.env.APPDATA ?? join(home, 'AppData', 'Roaming'), 'Nullbench');
+  if (process.platform === 'win32')
+    return join(process.env.APPDATA ?? join(home, 'AppData', 'Roaming'), 'Nullbench');
   if (process.platform === 'darwin') return join(home, 'Library', 'Application Support', 'Nullbench');
   return join(process.env.XDG_DATA_HOME ?? join(home, '.local', 'share'), 'nullbench');
 }

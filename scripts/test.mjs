@@ -1,6 +1,6 @@
 // Runs in Node. The one test command: every test file under test/ (or one group: unit, main, e2e)
 // through node's built-in runner with tsx, then a plain closing line "N passed, N failed".
-import { spawn } from 'node:child_process';
+import { spawn, spawnSync } from 'node:child_process';
 import { readdirSync, statSync, mkdirSync } from 'node:fs';
 import { join } from 'node:path';
 
@@ -29,6 +29,12 @@ function walk(dir) {
 }
 
 const files = roots.flatMap(walk);
+// The e2e tests and the installed-command tests use the bundles in dist/: build them first (esbuild, seconds).
+const built = spawnSync(process.execPath, ['scripts/build.mjs'], { stdio: 'inherit' });
+if (built.status !== 0) {
+  console.log('0 passed, 1 failed');
+  process.exit(1);
+}
 mkdirSync('test-artifacts', { recursive: true });
 const args = ['--import', 'tsx', '--test', '--test-reporter=spec', '--test-concurrency=2', ...files];
 const child = spawn(process.execPath, args, { stdio: ['ignore', 'pipe', 'inherit'] });

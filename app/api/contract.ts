@@ -30,7 +30,11 @@ export const CALLS = {
   /** Tell the bench where the trimmers now stand (the simulated bench moves its own). */
   setTrims: z.object({ trims: TrimPositionsSchema }),
   /** Keep the latest live reading as a point of the session, with the trimmer positions. */
-  keep: z.object({ note: z.string().max(400).default('') }),
+  keep: z.object({
+    note: z.string().max(400).default(''),
+    /** Wait for the next settled reading after the last change of trimmers or tuning, then keep that one. */
+    waitSettled: z.boolean().default(false),
+  }),
   /** Simulated bench only: step one trimmer and keep a settled reading at each step. */
   sweep: z.object({
     trim: z.string().min(1).max(16),
@@ -38,7 +42,10 @@ export const CALLS = {
     to: z.number().finite(),
     steps: z.number().int().min(2).max(200),
   }),
-  readings: SessionRef.extend({ keptOnly: z.boolean().default(false), limit: z.number().int().min(1).max(1e6).default(5000) }),
+  readings: SessionRef.extend({
+    keptOnly: z.boolean().default(false),
+    limit: z.number().int().min(1).max(1e6).default(5000),
+  }),
 } as const;
 
 export type CallName = keyof typeof CALLS;
@@ -61,7 +68,8 @@ export interface NoticeEvent {
 }
 
 /** What a call returns on the wire: only the error's code, field and message cross a process boundary. */
-export type CallResult<T> = { ok: true; value: T } | { ok: false; code: string; message: string; field?: string };
+export type CallResult<T> =
+  { ok: true; value: T } | { ok: false; code: string; message: string; field?: string };
 
 export function isCallName(name: string): name is CallName {
   return Object.prototype.hasOwnProperty.call(CALLS, name);

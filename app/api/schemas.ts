@@ -203,7 +203,12 @@ export const ReadingSchema = z.object({
 export type Reading = z.infer<typeof ReadingSchema>;
 
 /** A live reading before (or without) storage. */
-export const LiveReadingSchema = ReadingSchema.omit({ id: true, sessionId: true, kept: true, note: true }).extend({
+export const LiveReadingSchema = ReadingSchema.omit({
+  id: true,
+  sessionId: true,
+  kept: true,
+  note: true,
+}).extend({
   id: z.number().int().nullable(),
   sessionId: Id.nullable(),
   spreadDb: z.number(),

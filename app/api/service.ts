@@ -1,7 +1,17 @@
 // Runs anywhere (app/ is runtime-free). The typed shape of the service: what each call returns
 // and which payload each event carries. main/service implements it; renderer/api consumes it.
 import type { CallArgs, CallName, NoticeEvent, ProgressEvent } from './contract';
-import type { Design, LiveReading, Reading, Revision, Session, SessionSummary, Status, Tree, Unit } from './schemas';
+import type {
+  Design,
+  LiveReading,
+  Reading,
+  Revision,
+  Session,
+  SessionSummary,
+  Status,
+  Tree,
+  Unit,
+} from './schemas';
 
 export interface SweepResult {
   readings: Reading[];

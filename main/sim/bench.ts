@@ -29,9 +29,10 @@ export class SimBench {
     const vary = new Rng(seed * 7919 + 17);
     const board: Partial<TransmitterConfig> = {
       balanceA: 3.5 + 2 * vary.next(),
-      balanceB: 4.5 + 2.5 * vary.next(),
+      // The reactive balance is the finer one on a diode ring: its trimmer moves the residual less per turn.
+      balanceB: 4 + 2 * vary.next(),
       gainA: 0.04 + 0.02 * vary.next(),
-      gainB: 0.028 + 0.014 * vary.next(),
+      gainB: 0.01 + 0.01 * vary.next(),
       angleDeg: 55 + 35 * vary.next(),
     };
     this.tx = new SimTransmitter({ ...board, ...opts.transmitter }, seed);

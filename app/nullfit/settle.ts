@@ -1,0 +1,99 @@
+// Runs anywhere (app/ is runtime-free). Has a level settled enough to be kept?
+//
+// After a trimmer is moved or the receiver retuned, the reading wanders while the meter's averaging and
+// the circuit settle. A reading is kept once the last `windowCount` readings all lie within
+// ±toleranceDb of their mean; if that never happens within timeoutMs of the first reading, the latest
+// state is reported as timed out so the caller can keep it flagged rather than wait for ever.
+
+import { check, finiteIn } from '../errors';
+import { dbmToMw, mwToDbm } from './readings';
+
+export interface SettleOptions {
+  /** Readings that must agree, 2–1000. */
+  windowCount: number;
+  /** Half-width of the agreement band, dB, 0.001–60. */
+  toleranceDb: number;
+  /** Give up (flag) after this long since the first reading, ms, > 0. */
+  timeoutMs: number;
+}
+
+export interface SettleState {
+  /** The window is full and every reading in it lies within ±toleranceDb of the window's mean. */
+  settled: boolean;
+  /** timeoutMs has passed since the first reading without settling. */
+  timedOut: boolean;
+  /** Mean of the window as a power average (the level a longer measurement would show), dBm. */
+  meanDbm: number;
+  /** Highest minus lowest reading in the window, dB. */
+  spreadDb: number;
+  /** Readings in the window (≤ windowCount). */
+  count: number;
+}
+
+export class SettleDetector {
+  readonly windowCount: number;
+  readonly toleranceDb: number;
+  readonly timeoutMs: number;
+  private window: number[] = [];
+  private readonly trendDb: number;
+  private startMs: number | null = null;
+  private lastMs = -Infinity;
+
+  constructor(opts: SettleOptions) {
+    check(
+      typeof opts === 'object' && opts !== null,
+      'SettleDetector',
+      'needs { windowCount, toleranceDb, timeoutMs }',
+    );
+    check(
+      Number.isInteger(opts.windowCount),
+      'SettleDetector.windowCount',
+      `must be a whole number, got ${opts.windowCount}`,
+    );
+    this.windowCount = finiteIn(opts.windowCount, 'SettleDetector.windowCount', 2, 1000);
+    this.toleranceDb = finiteIn(opts.toleranceDb, 'SettleDetector.toleranceDb', 0.001, 60, 'dB');
+    this.timeoutMs = finiteIn(opts.timeoutMs, 'SettleDetector.timeoutMs', 1, 1e9, 'ms');
+  }
+
+  /**
+   * Add one reading.
+   * @param dbm the level, dBm
+   * @param tMs its time, ms on any steady clock; never earlier than the previous reading's
+   */
+  push(dbm: number, tMs: number): SettleState {
+    finiteIn(dbm, 'SettleDetector.push(dbm)', -300, 100, 'dBm');
+    check(Number.isFinite(tMs), 'SettleDetector.push(tMs)', `must be a finite time in ms, got ${tMs}`);
+    check(
+      tMs >= this.lastMs,
+      'SettleDetector.push(tMs)',
+      `went back in time: ${tMs} ms after ${this.lastMs} ms`,
+    );
+    this.lastMs = tMs;
+    if (this.startMs === null) this.startMs = tMs;
+    this.window.push(dbm);
+    if (this.window.length > this.windowCount) this.window.shift();
+    return this.state(tMs);
+  }
+
+  /** Forget everything: the next push starts a new wait (after moving a trimmer or retuning). */
+  reset(): void {
+    this.window = [];
+    this.startMs = null;
+    this.lastMs = -Infinity;
+  }
+
+  toString(): string {
+    return `SettleDetector(${this.windowCount} readings within ±${this.toleranceDb} dB, timeout ${this.timeoutMs} ms)`;
+  }
+
+  private state(tMs: number): SettleState {
+    const w = this.window;
+    const meanDbm = mwToDbm(w.reduce((s, x) => s + dbmToMw(x), 0) / w.length);
+    const spreadDb = Math.max(...w) - Math.min(...w);
+    // A hair of slack so that readings exactly on the band edge count as inside despite rounding.
+    const settled =
+      w.length === this.windowCount && w.every((x) => Math.abs(x - meanDbm) <= this.toleranceDb + 1e-9);
+    const timedOut = !settled && tMs - (this.startMs ?? tMs) >= this.timeoutMs;
+    return { settled, timedOut, meanDbm, spreadDb, count: w.length };
+  }
+}

@@ -1,0 +1,270 @@
+// Runs in Node. The live bench: polls the active session's source, corrects each reading, stores every
+// reading of an open session (nothing is thrown away), tracks settling, and keeps points on request.
+import { EventEmitter } from 'node:events';
+import {
+  roleFrequencyHz,
+  type LiveReading,
+  type PointRole,
+  type Reading,
+  type Session,
+  type TrimPositions,
+} from '../../app/api';
+import { BenchError } from '../../app/errors';
+import { SettleDetector } from '../../app/nullfit/settle';
+import { dutToRx } from '../../app/path';
+import type { Store } from '../store/store';
+import type { LevelSource } from '../sources/types';
+import { Corrector } from './correct';
+
+export interface LiveEvents {
+  reading: [LiveReading];
+  error: [BenchError];
+  state: [];
+}
+
+export interface LiveOptions {
+  /** Settled when the last `settleCount` readings lie within ± settleTolDb. */
+  settleCount?: number;
+  settleTolDb?: number;
+  settleTimeoutMs?: number;
+  /** Pause between readings, ms (on the source's clock). */
+  intervalMs?: number;
+}
+
+/** How long after turning a trimmer the bench waits before the first reading (a hand is still on it). */
+const TRIM_DWELL_MS = 150;
+
+export class LiveBench extends EventEmitter<LiveEvents> {
+  readonly session: Session;
+  readonly source: LevelSource;
+  readonly corrector: Corrector;
+  private readonly store: Store;
+  private readonly settle: SettleDetector;
+  private readonly opts: Required<LiveOptions>;
+  private running = false;
+  private loopDone: Promise<void> | null = null;
+  private latest: LiveReading | null = null;
+  private waiters: {
+    settledOnly: boolean;
+    after: number;
+    resolve: (r: LiveReading) => void;
+    reject: (e: Error) => void;
+  }[] = [];
+  private seq = 0;
+  role: PointRole = 'carrier';
+  trims: TrimPositions;
+  lastError: string | null = null;
+
+  constructor(store: Store, session: Session, source: LevelSource, opts: LiveOptions = {}) {
+    super();
+    this.store = store;
+    this.session = session;
+    this.source = source;
+    this.opts = {
+      settleCount: opts.settleCount ?? 8,
+      settleTolDb: opts.settleTolDb ?? 1,
+      settleTimeoutMs: opts.settleTimeoutMs ?? 8000,
+      intervalMs: opts.intervalMs ?? 0,
+    };
+    this.corrector = new Corrector({
+      calibration: session.receiver.calibration,
+      path: session.path,
+      noiseFloorDbm: source.noiseFloorDbm,
+      // Within 10 dB of the rated maximum the front end is likely compressing (common practice).
+      overloadDbm: session.receiver.maxInputDbm - 10,
+    });
+    this.settle = new SettleDetector({
+      windowCount: this.opts.settleCount,
+      toleranceDb: this.opts.settleTolDb,
+      timeoutMs: this.opts.settleTimeoutMs,
+    });
+    this.trims = Object.fromEntries(session.trims.map((t) => [t.key, (t.min + t.max) / 2]));
+  }
+
+  get isRunning(): boolean {
+    return this.running;
+  }
+
+  get latestReading(): LiveReading | null {
+    return this.latest;
+  }
+
+  async start(): Promise<void> {
+    if (this.running) return;
+    await this.source.open();
+    await this.source.setFrequency(roleFrequencyHz(this.role, this.session.carrierHz, this.session.toneHz));
+    if (this.source.caps.trims && this.source.setTrims) await this.source.setTrims(this.trims);
+    this.running = true;
+    this.settle.reset();
+    this.loopDone = this.loop();
+  }
+
+  async stop(): Promise<void> {
+    this.running = false;
+    await this.loopDone;
+    this.loopDone = null;
+    for (const w of this.waiters.splice(0))
+      w.reject(new BenchError('ECONFLICT', 'the live bench was stopped'));
+    await this.source.close();
+  }
+
+  async tune(role: PointRole): Promise<void> {
+    const hz = roleFrequencyHz(role, this.session.carrierHz, this.session.toneHz);
+    // Safety: a point whose expected level would overdrive the receiver is still only read, never transmitted by us;
+    // the session-level check (createSession) already refused a set-up above the rated maximum.
+    await this.source.setFrequency(hz);
+    if (this.source.caps.unbalance && this.source.setUnbalanced)
+      await this.source.setUnbalanced(role === 'reference');
+    this.role = role;
+    this.settle.reset();
+    this.seq++;
+    this.emit('state');
+  }
+
+  async setTrims(trims: TrimPositions): Promise<void> {
+    const known = new Map(this.session.trims.map((t) => [t.key, t]));
+    for (const [k, v] of Object.entries(trims)) {
+      const def = known.get(k);
+      if (!def)
+        throw new BenchError(
+          'EINVAL',
+          `no trimmer "${k}" in this session (have ${[...known.keys()].join(', ')})`,
+          `trims.${k}`,
+        );
+      if (v < def.min || v > def.max)
+        throw new BenchError(
+          'EINVAL',
+          `${def.label} must be between ${def.min} and ${def.max} ${def.unit}, got ${v}`,
+          `trims.${k}`,
+        );
+    }
+    this.trims = { ...this.trims, ...trims };
+    if (this.source.caps.trims && this.source.setTrims) await this.source.setTrims(this.trims);
+    this.settle.reset();
+    this.seq++;
+    this.emit('state');
+  }
+
+  /** Resolves with the next reading taken after now (settled, if asked) — or rejects on timeout. */
+  nextReading(settledOnly: boolean, timeoutMs = this.opts.settleTimeoutMs + 2000): Promise<LiveReading> {
+    if (!this.running)
+      return Promise.reject(
+        new BenchError('ECONFLICT', 'the live bench is not running; open a session first'),
+      );
+    return new Promise((resolve, reject) => {
+      const w = { settledOnly, after: this.seq, resolve, reject };
+      this.waiters.push(w);
+      if (timeoutMs <= 0) return;
+      const timer = setTimeout(() => {
+        const i = this.waiters.indexOf(w);
+        if (i >= 0) {
+          this.waiters.splice(i, 1);
+          reject(
+            new BenchError('ETIMEOUT', `no ${settledOnly ? 'settled ' : ''}reading within ${timeoutMs} ms`),
+          );
+        }
+      }, timeoutMs);
+      timer.unref?.();
+    });
+  }
+
+  /** Keeps the latest reading as a point of the session, with the current trimmer positions. */
+  keep(note = ''): Reading {
+    const r = this.latest;
+    if (!r) throw new BenchError('ECONFLICT', 'no reading yet: wait for the level display, then keep');
+    return this.store.addReading({
+      sessionId: this.session.id,
+      t: r.t,
+      freqHz: r.freqHz,
+      role: r.role,
+      raw: r.raw,
+      dbmRx: r.dbmRx,
+      dbmDut: r.dbmDut,
+      uDb: r.uDb,
+      settled: r.settled,
+      kept: true,
+      floorLimited: r.floorLimited,
+      overload: r.overload,
+      trims: r.trims,
+      calibration: this.corrector.calibration,
+      path: this.corrector.path,
+      note,
+    });
+  }
+
+  private async loop(): Promise<void> {
+    let gapId: number | null = null;
+    while (this.running) {
+      try {
+        const s = await this.source.read();
+        if (!this.running) break;
+        if (gapId !== null) {
+          this.store.closeGap(gapId, s.t);
+          gapId = null;
+        }
+        const c = this.corrector.correct(s);
+        const st = this.settle.push(c.dbmRx, s.t);
+        const stored = this.store.addReading({
+          sessionId: this.session.id,
+          t: s.t,
+          freqHz: s.freqHz,
+          role: this.role,
+          raw: s.raw,
+          ...c,
+          settled: st.settled,
+          kept: false,
+          trims: this.trims,
+          calibration: this.corrector.calibration,
+          path: this.corrector.path,
+        });
+        const live: LiveReading = {
+          id: stored.id,
+          sessionId: this.session.id,
+          t: s.t,
+          freqHz: s.freqHz,
+          role: this.role,
+          raw: s.raw,
+          ...c,
+          settled: st.settled,
+          trims: { ...this.trims },
+          spreadDb: st.spreadDb,
+        };
+        this.latest = live;
+        this.lastError = null;
+        this.emit('reading', live);
+        const seqNow = this.seq;
+        this.waiters = this.waiters.filter((w) => {
+          if (w.after !== seqNow || (w.settledOnly && !(st.settled || st.timedOut))) return true;
+          w.resolve(live);
+          return false;
+        });
+        if (this.opts.intervalMs > 0) await this.source.sleep(this.opts.intervalMs);
+        // A source on a virtual clock answers at once: let timers and I/O run between readings.
+        await new Promise((r) => setImmediate(r));
+      } catch (e) {
+        const err =
+          e instanceof BenchError ? e : new BenchError('EIO', e instanceof Error ? e.message : String(e));
+        this.lastError = err.message;
+        if (gapId === null)
+          gapId = this.store.addGap(this.session.id, this.source.now(), err.code, err.message);
+        this.emit('error', err);
+        if (err.code === 'EINVAL') {
+          // A configuration fault does not heal by retrying: stop and say so.
+          this.running = false;
+          break;
+        }
+        await this.source.sleep(500);
+      }
+    }
+  }
+
+  /** The receiver input at the session's PEP, for display. */
+  rxPepDbm(): number {
+    return dutToRx(this.session.txPepDbm, this.corrector.path);
+  }
+
+  /** Waits on the source's clock; trimming takes a moment at a real bench too. */
+  dwell(): Promise<void> {
+    return this.source.sleep(TRIM_DWELL_MS);
+  }
+}

@@ -1,0 +1,134 @@
+// Runs in Node. Seeds an invented scenario (our own design, boards and serials) so a new user sees
+// real-looking history at once: one design, two revisions, a few units, a session with sweeps on each.
+import type { PointRole, TrimDef } from '../app/api';
+import { BenchError } from '../app/errors';
+import { Service } from './service';
+import { createSource } from './sources';
+import type { Store } from './store/store';
+
+export const DEMO_DESIGN = 'Heron DSB-40';
+
+const TRIMS: TrimDef[] = [
+  { key: 'A', label: 'Balance R', unit: 'turns', min: 0, max: 10 },
+  { key: 'B', label: 'Balance C', unit: 'turns', min: 0, max: 10 },
+];
+
+interface DemoUnit {
+  serial: string;
+  seed: number;
+  builder: string;
+  buildDate: string;
+}
+
+const REVISIONS: { name: string; changes: string; leakageDbc: number; units: DemoUnit[] }[] = [
+  {
+    name: 'R1',
+    changes: 'First layout: ring modulator next to the carrier oscillator, single-sided board.',
+    leakageDbc: -52,
+    units: [
+      { serial: 'HD40-0101', seed: 11, builder: 'Bench night group', buildDate: '2026-03-14' },
+      { serial: 'HD40-0102', seed: 12, builder: 'Bench night group', buildDate: '2026-03-14' },
+      { serial: 'HD40-0103', seed: 13, builder: 'Workshop', buildDate: '2026-04-02' },
+    ],
+  },
+  {
+    name: 'R2',
+    changes:
+      'Ground plane under the modulator, carrier oscillator moved and shielded, balance trimmers on short leads.',
+    leakageDbc: -67,
+    units: [
+      { serial: 'HD40-0201', seed: 21, builder: 'Workshop', buildDate: '2026-07-20' },
+      { serial: 'HD40-0202', seed: 22, builder: 'Workshop', buildDate: '2026-07-21' },
+      { serial: 'HD40-0203', seed: 23, builder: 'Bench night group', buildDate: '2026-08-09' },
+    ],
+  },
+];
+
+export interface DemoSummary {
+  designId: string;
+  units: number;
+  sessions: number;
+  keptReadings: number;
+}
+
+/** Seeds the demo scenario into the store; refuses if it is already there (nothing is changed then). */
+export async function seedDemo(store: Store): Promise<DemoSummary> {
+  if (store.tree().some((d) => d.name === DEMO_DESIGN))
+    throw new BenchError('ECONFLICT', `the demo design "${DEMO_DESIGN}" is already in this database`, '--db');
+  let t0 = 0;
+  let leak = -60;
+  // Demo sessions run on a virtual clock so seeding takes seconds, and are dated on the day of the session.
+  const service = new Service({
+    store,
+    mode: 'cli',
+    createSource: (spec) => createSource(`${spec},fast,t0=${t0},leak=${leak}`),
+  });
+  const design = await service.invoke('createDesign', {
+    name: DEMO_DESIGN,
+    notes: 'A 40 m DSB transceiver kit with a diode ring balanced modulator (demo scenario, invented).',
+  });
+  let sessions = 0;
+  let kept = 0;
+  let units = 0;
+  for (const rev of REVISIONS) {
+    const r = await service.invoke('createRevision', {
+      designId: design.id,
+      name: rev.name,
+      changes: rev.changes,
+    });
+    for (const u of rev.units) {
+      const unit = await service.invoke('createUnit', {
+        revisionId: r.id,
+        serial: u.serial,
+        buildDate: u.buildDate,
+        builder: u.builder,
+      });
+      units++;
+      const day = Date.parse(`${u.buildDate}T19:30:00Z`) + 3 * 86400_000;
+      t0 = day;
+      leak = rev.leakageDbc;
+      const s = await service.invoke('createSession', {
+        unitId: unit.id,
+        receiver: {
+          name: 'Bench receiver (simulated)',
+          source: `sim:seed=${u.seed}`,
+          calibration: null,
+          bandwidthHz: 500,
+          maxInputDbm: 10,
+        },
+        path: [
+          { kind: 'coupler', couplingDb: 30, tolDb: 0.5, label: 'sampler' },
+          { kind: 'pad', db: 20, tolDb: 0.3 },
+        ],
+        carrierHz: 7_100_000,
+        toneHz: 1000,
+        txPepDbm: 30,
+        operator: u.builder,
+        notes: 'Carrier null by trimmer A, then B; tones and reference afterwards.',
+        trims: TRIMS,
+      });
+      store.db
+        .prepare('UPDATE sessions SET started_at = ? WHERE id = ?')
+        .run(new Date(day).toISOString(), s.id);
+      await service.invoke('openSession', { sessionId: s.id });
+      // A coarse sweep of A with B where it came from the factory, then of B with A at its best.
+      const a = await service.invoke('sweep', { trim: 'A', from: 1, to: 8, steps: 15 });
+      const bestA = a.readings.reduce((m, x) => (x.dbmDut < m.dbmDut ? x : m)).trims.A;
+      await service.invoke('setTrims', { trims: { A: bestA } });
+      const b = await service.invoke('sweep', { trim: 'B', from: 2, to: 9, steps: 15 });
+      const bestB = b.readings.reduce((m, x) => (x.dbmDut < m.dbmDut ? x : m)).trims.B;
+      await service.invoke('setTrims', { trims: { B: bestB } });
+      kept += a.readings.length + b.readings.length;
+      for (const role of ['carrier', 'upper', 'lower', 'imd3u', 'imd3l', 'reference'] as PointRole[]) {
+        await service.invoke('tune', { role });
+        await service.invoke('keep', { note: role === 'carrier' ? 'final null' : '', waitSettled: true });
+        kept++;
+      }
+      await service.invoke('closeSession', {});
+      store.endSession(s.id, new Date(day + 40 * 60_000).toISOString());
+      sessions++;
+    }
+  }
+  await service.close();
+  return { designId: design.id, units, sessions, keptReadings: kept };
+}

@@ -1,0 +1,51 @@
+// Runs in Node. What every CLI command is: a record with its name, one-line summary, usage text and run().
+import { parseArgs, type ParseArgsConfig } from 'node:util';
+import { BenchError } from '../../../app/errors';
+
+export interface Io {
+  out(s: string): void;
+  err(s: string): void;
+}
+
+export interface Command {
+  name: string;
+  summary: string;
+  usage: string;
+  /** Returns the exit code: 0 done, 1 failed at run time, 2 bad usage or bad input. */
+  run(argv: string[], io: Io): Promise<number>;
+}
+
+/** node:util parseArgs with strict checking; a misspelt option becomes a usage error naming it. */
+export function parseOptions<T extends NonNullable<ParseArgsConfig['options']>>(
+  argv: string[],
+  options: T,
+  positionals = false,
+) {
+  try {
+    return parseArgs({ args: argv, options, allowPositionals: positionals, strict: true });
+  } catch (e) {
+    throw new BenchError('EINVAL', (e as Error).message.replace(/\. To specify.*$/s, ''), 'arguments');
+  }
+}
+
+/** Parses a number option, naming the option on error. */
+export function numberOption(value: string | undefined, name: string, fallback?: number): number {
+  if (value === undefined) {
+    if (fallback === undefined) throw new BenchError('EINVAL', 'is required', `--${name}`);
+    return fallback;
+  }
+  const n = Number(value);
+  if (value.trim() === '' || !Number.isFinite(n))
+    throw new BenchError('EINVAL', `must be a number, got "${value}"`, `--${name}`);
+  return n;
+}
+
+/** Prints a BenchError the way every command does, and picks the exit code. */
+export function reportError(e: unknown, io: Io): number {
+  if (e instanceof BenchError) {
+    io.err(`error (${e.code}): ${e.message}\n`);
+    return e.code === 'EINVAL' ? 2 : 1;
+  }
+  io.err(`error: ${e instanceof Error ? e.message : String(e)}\n`);
+  return 1;
+}

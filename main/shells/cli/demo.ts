@@ -1,0 +1,42 @@
+// Runs in Node. `nullbench demo`: seed the invented demo scenario into a database.
+import { seedDemo } from '../../demo';
+import { defaultDbPath } from '../../paths';
+import { Store } from '../../store/store';
+import { parseOptions, reportError, type Command } from './command';
+
+export const demoCommand: Command = {
+  name: 'demo',
+  summary: 'fill a database with an invented demo scenario (one design, two revisions, six units, sweeps)',
+  usage: `nullbench demo [--db FILE] [--json]
+
+Options:
+  --db FILE   database to fill (default: ${defaultDbPath()})
+  --json      print a JSON summary`,
+  async run(argv, io) {
+    try {
+      const { values } = parseOptions(argv, {
+        db: { type: 'string' },
+        json: { type: 'boolean', default: false },
+        help: { type: 'boolean', short: 'h', default: false },
+      });
+      if (values.help) {
+        io.out(this.usage + '\n');
+        return 0;
+      }
+      const store = new Store(values.db ?? defaultDbPath());
+      try {
+        const s = await seedDemo(store);
+        if (values.json) io.out(JSON.stringify({ db: store.file, ...s }) + '\n');
+        else
+          io.out(
+            `Demo scenario written to ${store.file}: ${s.units} units, ${s.sessions} sessions, ${s.keptReadings} kept readings.\n`,
+          );
+      } finally {
+        store.close();
+      }
+      return 0;
+    } catch (e) {
+      return reportError(e, io);
+    }
+  },
+};

@@ -1,0 +1,35 @@
+// Runs in Node. The command-line shell: one explicit list of commands, one line each.
+import type { Command, Io } from './command';
+import { demoCommand } from './demo';
+import { readCommand } from './read';
+import { serveCommand } from './serve';
+
+export const COMMANDS: Command[] = [readCommand, serveCommand, demoCommand];
+
+export function usage(): string {
+  const w = Math.max(...COMMANDS.map((c) => c.name.length));
+  return (
+    'nullbench: measure and align carrier suppression of DSB/SSB transmitters\n\n' +
+    'Usage: nullbench COMMAND [options]    (nullbench COMMAND --help for its options)\n\nCommands:\n' +
+    COMMANDS.map((c) => `  ${c.name.padEnd(w)}  ${c.summary}`).join('\n') +
+    '\n'
+  );
+}
+
+export async function main(argv: string[], io: Io): Promise<number> {
+  const [name, ...rest] = argv;
+  if (!name || name === '--help' || name === '-h' || name === 'help') {
+    io.out(usage());
+    return name ? 0 : 2;
+  }
+  if (name === '--version') {
+    io.out('nullbench 0.1.0\n');
+    return 0;
+  }
+  const cmd = COMMANDS.find((c) => c.name === name);
+  if (!cmd) {
+    io.err(`error (EINVAL): unknown command "${name}"\n\n${usage()}`);
+    return 2;
+  }
+  return cmd.run(rest, io);
+}

@@ -1,0 +1,36 @@
+// Runs in the Electron main process (imported by tests in Node too; no Electron import here).
+// The window's security settings in one place, so a test can hold each of them.
+import type { BrowserWindowConstructorOptions } from 'electron';
+import { join } from 'node:path';
+
+export function windowOptions(preloadDir: string): BrowserWindowConstructorOptions {
+  return {
+    width: 1360,
+    height: 900,
+    minWidth: 960,
+    minHeight: 640,
+    title: 'Nullbench',
+    backgroundColor: '#0e1d23',
+    show: false,
+    webPreferences: {
+      preload: join(preloadDir, 'preload.cjs'),
+      contextIsolation: true,
+      sandbox: true,
+      nodeIntegration: false,
+      nodeIntegrationInWorker: false,
+      webSecurity: true,
+      allowRunningInsecureContent: false,
+      webviewTag: false,
+      spellcheck: false,
+    },
+  };
+}
+
+/** IPC channel names: one for calls, one per event; the preload exposes one function per message. */
+export const CALL_CHANNEL = 'nullbench:call';
+export const EVENT_CHANNEL_PREFIX = 'nullbench:event:';
+
+/** Only our own page, loaded from the app's files, may call the service. */
+export function isTrustedSenderUrl(url: string | undefined, rendererIndexUrl: string): boolean {
+  return typeof url === 'string' && url === rendererIndexUrl;
+}

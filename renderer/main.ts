@@ -1,0 +1,76 @@
+// Runs in the renderer. Starts the UI: connects to the service, wires events to the bench view, and opens
+// the sessions dialog when no session is active.
+import type { Session, Status } from '../app/api';
+import { connect } from './api';
+import { $, h } from './dom';
+import { BenchView } from './views/bench';
+import { showSessionsDialog } from './views/sessions';
+import { when } from './format';
+
+const api = connect();
+const notices = $('#notices');
+
+function notify(level: 'info' | 'warn' | 'error', message: string): void {
+  const n = h('div', { class: `notice ${level}`, role: level === 'error' ? 'alert' : 'status' }, message);
+  notices.append(n);
+  setTimeout(() => n.remove(), level === 'info' ? 3500 : 9000);
+  while (notices.children.length > 4) notices.firstElementChild?.remove();
+}
+
+const view = new BenchView($('#app'), api, notify);
+
+async function opened(s: Session): Promise<void> {
+  const tree = await api.call('tree', {});
+  let label = '';
+  for (const d of tree)
+    for (const r of d.revisions)
+      for (const u of r.units) if (u.id === s.unitId) label = `${u.serial} · ${d.name} ${r.name}`;
+  $('#session-line').textContent =
+    `${label} · session of ${when(s.startedAt)}${s.operator ? ` · ${s.operator}` : ''}`;
+  await view.open(s);
+}
+
+function showLink(s: Status): void {
+  const el = $('#link-state');
+  el.className = `link-state ${s.lastError ? 'fault' : s.live ? 'live' : 'idle'}`;
+  el.textContent = s.lastError ? `fault: ${s.lastError}` : s.live ? `reading · ${s.source}` : 'idle';
+}
+
+api.listen('reading', (r) => view.onReading(r));
+api.listen('status', (s) => {
+  showLink(s);
+  view.onStatus(s);
+});
+api.listen('progress', (p) => view.onProgress(p.done, p.total, p.message));
+api.listen('notice', (n) => notify(n.level, n.message));
+
+$('#btn-sessions').addEventListener('click', () => {
+  void showSessionsDialog({ api, onOpened: (s) => void opened(s) }, true).catch((e: Error) =>
+    notify('error', e.message),
+  );
+});
+
+document.addEventListener('keydown', (e) => {
+  const t = e.target as HTMLElement;
+  if (
+    e.key.toLowerCase() === 'k' &&
+    !['INPUT', 'TEXTAREA', 'SELECT'].includes(t.tagName) &&
+    !document.querySelector('.overlay')
+  ) {
+    e.preventDefault();
+    void view.keep();
+  }
+});
+
+async function boot(): Promise<void> {
+  const status = await api.call('status', {});
+  showLink(status);
+  if (status.activeSessionId) {
+    await opened(await api.call('getSession', { sessionId: status.activeSessionId }));
+    view.onStatus(status);
+  } else {
+    await showSessionsDialog({ api, onOpened: (s) => void opened(s) }, false);
+  }
+}
+
+boot().catch((e: Error) => notify('error', `Could not start: ${e.message}`));

@@ -1,0 +1,430 @@
+// Runs in the renderer. The bench view: the live level (large), the strip chart, the trimmer entry with a
+// keep action, the point being read, the null chart of the session, and the kept readings.
+import {
+  ROLE_LABELS,
+  roleFrequencyHz,
+  type LiveReading,
+  type PointRole,
+  type Reading,
+  type ServiceClient,
+  type Session,
+  type Status,
+} from '../../app/api';
+import { formatPath, validatePath } from '../../app/path';
+import { NullChart, StripChart } from '../charts';
+import { clear, h } from '../dom';
+import { dbm, mhz, signed, sUnits } from '../format';
+
+const ROLES: PointRole[] = ['carrier', 'upper', 'lower', 'imd3u', 'imd3l', 'reference', 'floor'];
+
+export class BenchView {
+  private readonly root: HTMLElement;
+  private session: Session | null = null;
+  private kept: Reading[] = [];
+  private strip!: StripChart;
+  private nullChart!: NullChart;
+  private nullTrim = 'A';
+  private status: Status | null = null;
+  private readonly els: Record<string, HTMLElement> = {};
+  private trimInputs = new Map<string, HTMLInputElement>();
+  private busy = false;
+
+  constructor(
+    root: HTMLElement,
+    private readonly api: ServiceClient,
+    private readonly notify: (level: 'info' | 'warn' | 'error', msg: string) => void,
+  ) {
+    this.root = root;
+  }
+
+  async open(session: Session): Promise<void> {
+    this.session = session;
+    this.nullTrim = session.trims[0]?.key ?? 'A';
+    this.render();
+    this.kept = await this.api.call('readings', { sessionId: session.id, keptOnly: true });
+    this.refreshKept();
+  }
+
+  onStatus(s: Status): void {
+    this.status = s;
+    if (!this.session || s.activeSessionId !== this.session.id) return;
+    for (const [k, el] of this.trimInputs) {
+      if (document.activeElement !== el && typeof s.trims[k] === 'number')
+        el.value = String(round(s.trims[k], 3));
+    }
+    this.root
+      .querySelectorAll<HTMLButtonElement>('[data-role]')
+      .forEach((b) => b.classList.toggle('on', b.dataset.role === s.tunedRole));
+    if (this.els.role && s.tunedRole)
+      this.els.role.textContent = `${ROLE_LABELS[s.tunedRole]} · ${mhz(roleFrequencyHz(s.tunedRole, this.session.carrierHz, this.session.toneHz))}`;
+  }
+
+  onReading(r: LiveReading): void {
+    if (!this.session || r.sessionId !== this.session.id) return;
+    const e = this.els;
+    e.level.textContent = dbm(r.dbmDut);
+    e.unc.textContent = `± ${(2 * r.uDb).toFixed(1)} dB (k=2)`;
+    e.rx.textContent = `${dbm(r.dbmRx)} dBm`;
+    e.s.textContent = `${sUnits(r.dbmRx, r.freqHz)} · raw ${r.raw}`;
+    const ref = this.referenceDbm();
+    e.dbc.textContent =
+      r.role !== 'upper' && r.role !== 'lower' && ref !== null
+        ? `${signed(r.dbmDut - ref.dbm)} dB ${ref.label}`
+        : '';
+    e.settle.textContent = r.settled ? 'steady' : `moving (spread ${r.spreadDb.toFixed(1)} dB)`;
+    e.settle.className = `settle ${r.settled ? 'steady' : 'moving'}`;
+    e.flags.textContent = [
+      r.floorLimited ? 'at the receiver floor: true level is lower' : '',
+      r.overload ? 'near overload: may read low' : '',
+    ]
+      .filter(Boolean)
+      .join(' · ');
+    this.strip.push(r.t, r.dbmDut);
+  }
+
+  /** The tone level the carrier is compared with: the mean of the kept upper and lower tone readings. */
+  private referenceDbm(): { dbm: number; label: string } | null {
+    const last = (role: PointRole) => [...this.kept].reverse().find((k) => k.role === role);
+    const tones = [last('upper'), last('lower')].filter((x): x is Reading => !!x);
+    if (!tones.length) return null;
+    const mw = tones.reduce((a, t) => a + 10 ** (t.dbmDut / 10), 0) / tones.length;
+    return {
+      dbm: 10 * Math.log10(mw),
+      label:
+        tones.length === 2
+          ? 'rel. mean tone (dBc)'
+          : `rel. ${ROLE_LABELS[tones[0].role].toLowerCase()} (dBc)`,
+    };
+  }
+
+  private render(): void {
+    const s = this.session!;
+    clear(this.root);
+    this.trimInputs.clear();
+    const e = this.els;
+    e.level = h('span', { id: 'level-dut' }, '—');
+    e.unc = h('small', {}, '');
+    e.rx = h('b', { id: 'level-rx' }, '—');
+    e.s = h('div', {}, '');
+    e.dbc = h('div', { class: 'dbc', id: 'level-dbc' });
+    e.settle = h('span', { class: 'settle moving', id: 'settle' }, 'waiting for the first reading');
+    e.flags = h('span', { class: 'flag' });
+    e.role = h('div', { class: 'role' }, `${ROLE_LABELS.carrier} · ${mhz(s.carrierHz)}`);
+    const stripCanvas = h('canvas', { id: 'strip-chart' });
+    const nullCanvas = h('canvas', { id: 'null-chart' });
+    e.keptBody = h('tbody', { id: 'kept-rows' });
+    e.nullNote = h('p', { class: 'hint', id: 'null-note' });
+
+    const levelCard = h(
+      'section',
+      { class: 'card' },
+      h('h2', {}, 'Level at the transmitter output'),
+      h(
+        'div',
+        { class: 'level' },
+        h('div', {}, e.role, h('div', { class: 'big' }, e.level, h('small', {}, ' dBm '), e.unc), e.dbc),
+        h(
+          'div',
+          { class: 'side' },
+          h('div', {}, 'at the receiver'),
+          e.rx,
+          e.s,
+          h('div', { class: 'gap-top' }, e.settle),
+          e.flags,
+        ),
+      ),
+      h('div', { class: 'chart-box' }, stripCanvas),
+    );
+
+    const trimSelect = h(
+      'select',
+      {
+        id: 'null-trim',
+        onchange: (ev: Event) => {
+          this.nullTrim = (ev.target as HTMLSelectElement).value;
+          this.refreshKept();
+        },
+      },
+      ...s.trims.map((t) => h('option', { value: t.key }, `${t.label} (${t.unit})`)),
+    );
+    const nullCard = h(
+      'section',
+      { class: 'card' },
+      h(
+        'div',
+        { class: 'row spread' },
+        h('h2', {}, 'Carrier null'),
+        h('label', { class: 'inline' }, 'against', trimSelect),
+      ),
+      h('div', { class: 'chart-box tall' }, nullCanvas),
+      e.nullNote,
+    );
+
+    const trimCard = h('section', { class: 'card' }, h('h2', {}, 'Trimmers'));
+    for (const t of s.trims) {
+      const inp = h('input', {
+        id: `trim-${t.key}`,
+        type: 'number',
+        step: '0.01',
+        min: t.min,
+        max: t.max,
+        value: (t.min + t.max) / 2,
+        'aria-label': t.label,
+      });
+      this.trimInputs.set(t.key, inp);
+      const apply = () => void this.applyTrim(t.key, Number(inp.value));
+      inp.addEventListener('change', apply);
+      const nudge = (d: number) =>
+        h(
+          'button',
+          {
+            type: 'button',
+            title: `${d > 0 ? '+' : ''}${d} ${t.unit}`,
+            onclick: () => {
+              inp.value = String(round(Number(inp.value) + d, 4));
+              apply();
+            },
+          },
+          d > 0 ? '+' : '−',
+        );
+      trimCard.append(
+        h('div', { class: 'trim' }, h('label', {}, `${t.label} (${t.unit})`, inp), nudge(-0.05), nudge(0.05)),
+      );
+    }
+    const keepBtn = h(
+      'button',
+      { type: 'button', class: 'primary keep', id: 'keep', onclick: () => void this.keep() },
+      'Keep this reading',
+    );
+    trimCard.append(
+      h(
+        'p',
+        { class: 'hint' },
+        'Type where each trimmer now stands (or use − / +), wait for "steady", then keep. Keyboard: K keeps.',
+      ),
+      keepBtn,
+    );
+
+    const roleCard = h(
+      'section',
+      { class: 'card' },
+      h('h2', {}, 'Point being read'),
+      h(
+        'div',
+        { class: 'roles' },
+        ...ROLES.map((r) =>
+          h(
+            'button',
+            {
+              type: 'button',
+              'data-role': r,
+              class: r === 'carrier' ? 'on' : '',
+              onclick: () => void this.tune(r),
+            },
+            ROLE_LABELS[r],
+          ),
+        ),
+      ),
+      h(
+        'p',
+        { class: 'hint' },
+        'Keep the upper and lower tone once: the carrier is then shown in dBc against them.',
+      ),
+    );
+
+    const fromIn = h('input', { id: 'sweep-from', type: 'number', value: 1, step: '0.1' });
+    const toIn = h('input', { id: 'sweep-to', type: 'number', value: 8, step: '0.1' });
+    const stepsIn = h('input', { id: 'sweep-steps', type: 'number', value: 11, min: 2, max: 200 });
+    const sweepTrim = h(
+      'select',
+      { id: 'sweep-trim' },
+      ...s.trims.map((t) => h('option', { value: t.key }, t.label)),
+    );
+    e.sweepMsg = h('p', { class: 'hint', id: 'sweep-msg' });
+    const sweepBtn = h(
+      'button',
+      {
+        type: 'button',
+        id: 'sweep-run',
+        onclick: () =>
+          void this.sweep(
+            sweepTrim.value,
+            Number(fromIn.value),
+            Number(toIn.value),
+            Number(stepsIn.value),
+            sweepBtn,
+          ),
+      },
+      'Run sweep',
+    );
+    const simOnly = s.receiver.source.startsWith('sim');
+    const sweepCard = simOnly
+      ? h(
+          'section',
+          { class: 'card' },
+          h('h2', {}, 'Automatic sweep (simulated bench)'),
+          h(
+            'div',
+            { class: 'row' },
+            h('label', {}, 'Trimmer', sweepTrim),
+            h('label', {}, 'From', fromIn),
+            h('label', {}, 'To', toIn),
+            h('label', {}, 'Steps', stepsIn),
+            sweepBtn,
+          ),
+          e.sweepMsg,
+        )
+      : null;
+
+    const keptCard = h(
+      'section',
+      { class: 'card' },
+      h('h2', {}, 'Kept readings'),
+      h(
+        'div',
+        { class: 'scroll short' },
+        h(
+          'table',
+          {},
+          h(
+            'thead',
+            {},
+            h(
+              'tr',
+              {},
+              h('th', {}, 'Point'),
+              ...s.trims.map((t) => h('th', { class: 'num' }, t.key)),
+              h('th', { class: 'num' }, 'dBm DUT'),
+              h('th', { class: 'num' }, '± (k=2)'),
+              h('th', {}, ''),
+            ),
+          ),
+          e.keptBody,
+        ),
+      ),
+    );
+
+    const setup = h(
+      'section',
+      { class: 'card' },
+      h('h2', {}, 'Set-up'),
+      h(
+        'p',
+        { class: 'hint' },
+        `Receiver: ${s.receiver.name} (${s.receiver.source}), ${s.receiver.bandwidthHz} Hz, rated max ${dbm(s.receiver.maxInputDbm)} dBm`,
+      ),
+      h(
+        'p',
+        { class: 'hint' },
+        `Path: ${formatPath(validatePath(s.path))}; receiver input at PEP ${dbm(s.rxPepDbm)} dBm`,
+      ),
+    );
+
+    this.root.append(
+      h(
+        'div',
+        { class: 'grid' },
+        h('div', { class: 'stack' }, levelCard, nullCard, keptCard),
+        h('div', { class: 'stack' }, trimCard, roleCard, sweepCard, setup),
+      ),
+    );
+    this.strip = new StripChart(stripCanvas);
+    this.nullChart = new NullChart(nullCanvas);
+  }
+
+  async applyTrim(key: string, value: number): Promise<void> {
+    try {
+      await this.api.call('setTrims', { trims: { [key]: value } });
+      this.strip.push(Date.now(), NaN);
+    } catch (e) {
+      this.notify('error', (e as Error).message);
+    }
+  }
+
+  async keep(): Promise<void> {
+    if (this.busy) return;
+    try {
+      const r = await this.api.call('keep', { note: '' });
+      this.kept.push(r);
+      this.refreshKept();
+      this.notify(
+        'info',
+        `Kept ${ROLE_LABELS[r.role].toLowerCase()}: ${dbm(r.dbmDut)} dBm${r.settled ? '' : ' (not yet steady)'}`,
+      );
+    } catch (e) {
+      this.notify('error', (e as Error).message);
+    }
+  }
+
+  private async tune(role: PointRole): Promise<void> {
+    try {
+      await this.api.call('tune', { role });
+      this.strip.reset();
+    } catch (e) {
+      this.notify('error', (e as Error).message);
+    }
+  }
+
+  private async sweep(
+    trim: string,
+    from: number,
+    to: number,
+    steps: number,
+    btn: HTMLButtonElement,
+  ): Promise<void> {
+    btn.disabled = true;
+    this.busy = true;
+    this.els.sweepMsg.textContent = 'Sweeping…';
+    try {
+      const r = await this.api.call('sweep', { trim, from, to, steps });
+      this.kept.push(...r.readings);
+      this.refreshKept();
+      const best = r.readings.reduce((m, x) => (x.dbmDut < m.dbmDut ? x : m));
+      this.els.sweepMsg.textContent = `Done: ${r.readings.length} readings kept; deepest ${dbm(best.dbmDut)} dBm at ${trim} = ${best.trims[trim]}.`;
+    } catch (e) {
+      this.els.sweepMsg.textContent = (e as Error).message;
+    } finally {
+      btn.disabled = false;
+      this.busy = false;
+    }
+  }
+
+  onProgress(done: number, total: number, message: string): void {
+    if (this.els.sweepMsg) this.els.sweepMsg.textContent = `Sweeping: ${done}/${total} (${message})`;
+  }
+
+  private refreshKept(): void {
+    const s = this.session!;
+    const body = this.els.keptBody;
+    clear(body);
+    for (const r of [...this.kept].reverse().slice(0, 200)) {
+      body.append(
+        h(
+          'tr',
+          {},
+          h('td', {}, ROLE_LABELS[r.role]),
+          ...s.trims.map((t) =>
+            h('td', { class: 'num' }, r.trims[t.key] === undefined ? '' : String(round(r.trims[t.key], 3))),
+          ),
+          h('td', { class: 'num' }, `${r.floorLimited ? '≤ ' : ''}${dbm(r.dbmDut)}`),
+          h('td', { class: 'num' }, (2 * r.uDb).toFixed(1)),
+          h('td', {}, r.settled ? '' : 'not steady'),
+        ),
+      );
+    }
+    const def = s.trims.find((t) => t.key === this.nullTrim) ?? s.trims[0];
+    const pts = this.kept
+      .filter((r) => r.role === 'carrier' && typeof r.trims[def.key] === 'number')
+      .map((r) => ({ x: r.trims[def.key], y: r.dbmDut, floorLimited: r.floorLimited }));
+    const now = this.status?.trims[def.key] ?? null;
+    this.nullChart.show(pts, `${def.label} (${def.unit})`, now);
+    this.els.nullNote.textContent = pts.length
+      ? `${pts.length} carrier readings. Deepest so far: ${dbm(Math.min(...pts.map((p) => p.y)))} dBm.`
+      : 'No carrier readings kept yet: set a trimmer, wait for "steady", keep. Repeat on both sides of the dip.';
+  }
+}
+
+function round(x: number, d: number): number {
+  const f = 10 ** d;
+  return Math.round(x * f) / f;
+}

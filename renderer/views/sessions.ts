@@ -1,0 +1,237 @@
+// Runs in the renderer. The sessions dialog: pick an earlier session, or set up a new one (design, revision,
+// unit, receiver, path, power) in one form. The set-up is checked by the service, which refuses unsafe ones.
+import type { ServiceClient, Session, SessionSummary, Tree } from '../../app/api';
+import { formatPath, parsePathSpec } from '../../app/path';
+import { ApiError } from '../api';
+import { h } from '../dom';
+import { dbm, when } from '../format';
+
+export interface SessionsDialogDeps {
+  api: ServiceClient;
+  onOpened(session: Session): void;
+}
+
+function field(label: string, input: HTMLElement, cls = ''): HTMLLabelElement {
+  return h('label', { class: cls }, label, input);
+}
+
+export async function showSessionsDialog(deps: SessionsDialogDeps, closable: boolean): Promise<void> {
+  const { api } = deps;
+  const [tree, sessions] = await Promise.all([api.call('tree', {}), api.call('listSessions', {})]);
+  const overlay = h('div', { class: 'overlay', id: 'sessions-dialog', role: 'dialog', 'aria-modal': 'true' });
+  const close = () => overlay.remove();
+  const dialog = h('div', { class: 'dialog' });
+  overlay.append(dialog);
+  dialog.append(
+    h(
+      'div',
+      { class: 'row spread center' },
+      h('h1', {}, 'Sessions'),
+      closable ? h('button', { type: 'button', class: 'ghost', onclick: close }, 'Close') : null,
+    ),
+    h(
+      'p',
+      { class: 'hint' },
+      'A session is one sitting at the bench with one unit, one receiver and one signal path. Open an earlier one to continue it, or start a new one.',
+    ),
+  );
+  const two = h('div', { class: 'two' });
+  two.append(
+    sessionList(sessions, async (id) => {
+      const s = await api.call('openSession', { sessionId: id });
+      close();
+      deps.onOpened(s);
+    }),
+    newSessionForm(tree, deps, close),
+  );
+  dialog.append(two);
+  document.body.append(overlay);
+}
+
+function sessionList(sessions: SessionSummary[], open: (id: string) => Promise<void>): HTMLElement {
+  const card = h('section', { class: 'card' }, h('h2', {}, 'Earlier sessions'));
+  if (!sessions.length) {
+    card.append(
+      h('p', { class: 'hint' }, 'None yet. Start one on the right; the simulated bench needs no hardware.'),
+    );
+    return card;
+  }
+  const err = h('div', { class: 'error-text' });
+  const tbody = h('tbody');
+  for (const s of sessions.slice(0, 40)) {
+    tbody.append(
+      h(
+        'tr',
+        {
+          class: 'pick',
+          tabindex: 0,
+          'data-session': s.id,
+          onclick: () => void open(s.id).catch((e: Error) => (err.textContent = e.message)),
+        },
+        h('td', {}, s.serial),
+        h('td', {}, `${s.design} ${s.revision}`),
+        h('td', {}, when(s.startedAt)),
+        h('td', { class: 'num' }, String(s.kept)),
+        h('td', { class: 'num' }, s.bestCarrierDbm === null ? '—' : dbm(s.bestCarrierDbm)),
+      ),
+    );
+  }
+  card.append(
+    h(
+      'div',
+      { class: 'scroll' },
+      h(
+        'table',
+        {},
+        h(
+          'thead',
+          {},
+          h(
+            'tr',
+            {},
+            h('th', {}, 'Unit'),
+            h('th', {}, 'Design'),
+            h('th', {}, 'Started'),
+            h('th', { class: 'num' }, 'Kept'),
+            h('th', { class: 'num' }, 'Best carrier dBm'),
+          ),
+        ),
+        tbody,
+      ),
+    ),
+    err,
+  );
+  return card;
+}
+
+function newSessionForm(tree: Tree, deps: SessionsDialogDeps, close: () => void): HTMLElement {
+  const { api } = deps;
+  const firstDesign = tree[0];
+  const firstRev = firstDesign?.revisions[firstDesign.revisions.length - 1];
+  const input = (name: string, value: string, attrs: Record<string, string> = {}) =>
+    h('input', { name, value, ...attrs });
+  const designs = h('input', {
+    name: 'design',
+    value: firstDesign?.name ?? 'My DSB transmitter',
+    list: 'design-list',
+  });
+  const revision = h('input', { name: 'revision', value: firstRev?.name ?? 'A', list: 'revision-list' });
+  const serial = input('serial', nextSerial(tree));
+  const source = input('source', 'sim');
+  const path = input('path', 'coupler:30,pad:20');
+  const pep = input('pep', '1', { inputmode: 'decimal' });
+  const carrier = input('carrier', '7.1', { inputmode: 'decimal' });
+  const tone = input('tone', '1000', { inputmode: 'decimal' });
+  const bw = input('bandwidth', '500', { inputmode: 'decimal' });
+  const maxIn = input('maxin', '10', { inputmode: 'decimal' });
+  const operator = input('operator', '');
+  const pathEcho = h('p', { class: 'hint', id: 'path-echo' });
+  const err = h('div', { class: 'error-text', id: 'session-error', role: 'alert' });
+  const echo = () => {
+    try {
+      pathEcho.textContent = `Path: ${formatPath(parsePathSpec(path.value))}`;
+    } catch (e) {
+      pathEcho.textContent = (e as Error).message;
+    }
+  };
+  path.addEventListener('input', echo);
+  echo();
+  const lists = h(
+    'div',
+    {},
+    h('datalist', { id: 'design-list' }, ...tree.map((d) => h('option', { value: d.name }))),
+    h(
+      'datalist',
+      { id: 'revision-list' },
+      ...(firstDesign?.revisions ?? []).map((r) => h('option', { value: r.name })),
+    ),
+  );
+
+  const start = h('button', { type: 'submit', class: 'primary', id: 'start-session' }, 'Start session');
+  const form = h(
+    'form',
+    { class: 'form', id: 'new-session' },
+    field('Design', designs),
+    field('Board revision', revision),
+    field('Unit serial', serial),
+    field('Receiver source', source, 'two-col'),
+    field('Receiver bandwidth (Hz)', bw),
+    field('Signal path, transmitter → receiver', path, 'two-col'),
+    field('Receiver rated max input (dBm)', maxIn),
+    h('div', { class: 'wide' }, pathEcho),
+    field('Transmitter PEP (W)', pep),
+    field('Carrier (MHz)', carrier),
+    field('Audio tone (Hz)', tone),
+    field('Operator', operator),
+    h(
+      'div',
+      { class: 'wide' },
+      h(
+        'p',
+        { class: 'caution' },
+        'Caution: the app refuses a set-up whose computed receiver input exceeds the rated maximum, but it cannot see your cables. Transmit into a dummy load through a pad rated for the power, check the attenuation before keying, mind RF exposure and mains safety, and follow your licence and local regulations.',
+      ),
+      err,
+      start,
+    ),
+    lists,
+  );
+  form.addEventListener('submit', (ev) => {
+    ev.preventDefault();
+    err.textContent = '';
+    start.disabled = true;
+    void (async () => {
+      try {
+        const num = (el: HTMLInputElement, what: string) => {
+          const v = Number(el.value.replace(',', '.'));
+          if (el.value.trim() === '' || !Number.isFinite(v))
+            throw new ApiError('EINVAL', `${what}: "${el.value}" is not a number`);
+          return v;
+        };
+        const pepW = num(pep, 'Transmitter PEP');
+        if (!(pepW > 0)) throw new ApiError('EINVAL', 'Transmitter PEP: must be above 0 W');
+        const elements = parsePathSpec(path.value);
+        const t = await api.call('tree', {});
+        let d = t.find((x) => x.name === designs.value.trim());
+        if (!d) d = { ...(await api.call('createDesign', { name: designs.value })), revisions: [] };
+        let r = d.revisions.find((x) => x.name === revision.value.trim());
+        if (!r)
+          r = { ...(await api.call('createRevision', { designId: d.id, name: revision.value })), units: [] };
+        let u = r.units.find((x) => x.serial === serial.value.trim());
+        if (!u) u = await api.call('createUnit', { revisionId: r.id, serial: serial.value });
+        const s = await api.call('createSession', {
+          unitId: u.id,
+          receiver: {
+            name: source.value === 'sim' ? 'Simulated bench receiver' : source.value,
+            source: source.value,
+            calibration: null,
+            bandwidthHz: num(bw, 'Receiver bandwidth'),
+            maxInputDbm: num(maxIn, 'Receiver rated max input'),
+          },
+          path: elements,
+          carrierHz: num(carrier, 'Carrier') * 1e6,
+          toneHz: num(tone, 'Audio tone'),
+          txPepDbm: 10 * Math.log10(pepW * 1000),
+          operator: operator.value,
+          trims: [
+            { key: 'A', label: 'Balance R', unit: 'turns', min: 0, max: 10 },
+            { key: 'B', label: 'Balance C', unit: 'turns', min: 0, max: 10 },
+          ],
+        });
+        await api.call('openSession', { sessionId: s.id });
+        close();
+        deps.onOpened(s);
+      } catch (e) {
+        err.textContent = e instanceof Error ? e.message : String(e);
+      } finally {
+        start.disabled = false;
+      }
+    })();
+  });
+  return h('section', { class: 'card' }, h('h2', {}, 'New session'), form);
+}
+
+function nextSerial(tree: Tree): string {
+  const n = tree.reduce((acc, d) => acc + d.revisions.reduce((a, r) => a + r.units.length, 0), 0);
+  return `UNIT-${String(n + 1).padStart(3, '0')}`;
+}

@@ -1,0 +1,119 @@
+// End to end: the web mode in Debian's Chromium. A builder opens the app, starts a session on the simulated
+// bench, sets a trimmer and keeps a reading, runs a sweep, and sees the null in the chart and in the database.
+import { describe, it, before, after } from 'node:test';
+import assert from 'node:assert/strict';
+import type { Browser, Page } from 'playwright-core';
+import Database from 'better-sqlite3';
+import { join } from 'node:path';
+import { startWeb, type Served } from '../../main/shells/cli/serve';
+import { launch, shot } from '../helpers/browser';
+import { tempDir } from '../helpers/tmp';
+
+describe('web mode, end to end', () => {
+  let served: Served;
+  let browser: Browser;
+  let page: Page;
+  let dir: ReturnType<typeof tempDir>;
+  let dbFile: string;
+  const pageErrors: string[] = [];
+
+  before(async () => {
+    dir = tempDir();
+    dbFile = join(dir.dir, 'e2e.db');
+    served = await startWeb({ dbPath: dbFile, port: 0 });
+    browser = await launch();
+    page = await browser.newPage({ viewport: { width: 1360, height: 900 } });
+    page.on('pageerror', (e) => pageErrors.push(e.message));
+    page.on('console', (m) => {
+      if (m.type() === 'error') pageErrors.push(m.text());
+    });
+  });
+
+  after(async () => {
+    await browser?.close();
+    await served?.stop();
+    dir?.cleanup();
+  });
+
+  it('opens on the sessions dialog when there is no session yet', async () => {
+    await page.goto(served.url);
+    await page.locator('#sessions-dialog').waitFor();
+    assert.match(await page.locator('#sessions-dialog').innerText(), /simulated bench needs no hardware/);
+    await page.screenshot({ path: shot('e2e-01-first-start') });
+  });
+
+  it('refuses an unsafe set-up on screen, then starts a safe session on the simulated bench', async () => {
+    await page.fill('input[name=path]', 'pad:3');
+    await page.fill('input[name=pep]', '100');
+    await page.click('#start-session');
+    await page.locator('#session-error').filter({ hasText: 'refused' }).waitFor();
+    assert.match(await page.locator('#session-error').innerText(), /rated maximum/);
+    await page.screenshot({ path: shot('e2e-02-unsafe-refused') });
+    await page.fill('input[name=path]', 'coupler:30,pad:20');
+    await page.fill('input[name=pep]', '1');
+    await page.fill('input[name=serial]', 'E2E-001');
+    await page.click('#start-session');
+    await page.locator('#sessions-dialog').waitFor({ state: 'detached' });
+    await page.waitForFunction(() => document.querySelector('#level-dut')?.textContent !== '—');
+    assert.match(await page.locator('#session-line').innerText(), /E2E-001/);
+    assert.match(await page.locator('#link-state').innerText(), /reading/);
+  });
+
+  it('keeps a reading at a typed trimmer position', async () => {
+    await page.fill('#trim-A', '3');
+    await page.press('#trim-A', 'Enter');
+    await page.locator('#settle.steady').waitFor({ timeout: 15000 });
+    await page.click('#keep');
+    await page.locator('#kept-rows tr').first().waitFor();
+    assert.match(await page.locator('#kept-rows tr').first().innerText(), /Carrier\s+3\b/);
+  });
+
+  it('runs a sweep and draws the V-shaped null in the chart, every kept reading in SQLite', async () => {
+    await page.fill('#sweep-from', '1');
+    await page.fill('#sweep-to', '8');
+    await page.fill('#sweep-steps', '8');
+    await page.click('#sweep-run');
+    await page.locator('#sweep-msg').filter({ hasText: 'Done' }).waitFor({ timeout: 120000 });
+    assert.equal(await page.locator('#kept-rows tr').count(), 9);
+    // The chart publishes the points it plots on its canvas.
+    const pts = JSON.parse((await page.locator('#null-chart').getAttribute('data-points')) ?? 'null') as {
+      x: number;
+      y: number;
+    }[];
+    assert.ok(pts && pts.length >= 8, 'null chart has the kept points');
+    const ys = pts.map((p) => p.y);
+    const i = ys.indexOf(Math.min(...ys));
+    assert.ok(
+      i > 0 && i < ys.length - 1,
+      `minimum inside the sweep: ${ys.map((y) => y.toFixed(0)).join(' ')}`,
+    );
+    assert.ok(
+      ys[0] - ys[i] > 10 && ys[ys.length - 1] - ys[i] > 10,
+      `V-shaped: ${ys.map((y) => y.toFixed(0)).join(' ')}`,
+    );
+    await page.screenshot({ path: shot('e2e-03-null-after-sweep'), fullPage: true });
+
+    const db = new Database(dbFile, { readonly: true });
+    const kept = db
+      .prepare("SELECT COUNT(*) AS n FROM readings WHERE kept = 1 AND role = 'carrier'")
+      .get() as { n: number };
+    const all = db.prepare('SELECT COUNT(*) AS n FROM readings').get() as { n: number };
+    db.close();
+    assert.equal(kept.n, 9);
+    assert.ok(all.n > kept.n, 'live readings are stored too');
+  });
+
+  it('shows the carrier in dBc once the tones are kept', async () => {
+    await page.click('[data-role=upper]');
+    await page.locator('#settle.steady').waitFor({ timeout: 15000 });
+    await page.click('#keep');
+    await page.click('[data-role=carrier]');
+    await page.locator('#level-dbc').filter({ hasText: 'dBc' }).waitFor({ timeout: 15000 });
+    assert.match(await page.locator('#level-dbc').innerText(), /^[−+]\d+\.\d dB rel\. upper tone \(dBc\)$/);
+    await page.screenshot({ path: shot('e2e-04-dbc') });
+  });
+
+  it('raised no script errors in the page', () => {
+    assert.deepEqual(pageErrors, []);
+  });
+});

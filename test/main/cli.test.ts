@@ -1,0 +1,124 @@
+import { describe, it } from 'node:test';
+import assert from 'node:assert/strict';
+import { join } from 'node:path';
+import { existsSync } from 'node:fs';
+import Database from 'better-sqlite3';
+import { runBin, runCli } from '../helpers/cli';
+import { tempDir } from '../helpers/tmp';
+
+describe('nullbench CLI', () => {
+  it('lists its commands on --help', async () => {
+    const r = await runCli(['--help']);
+    assert.equal(r.code, 0);
+    for (const c of ['read', 'serve', 'demo']) assert.match(r.out, new RegExp(`\\n  ${c}\\s`));
+  });
+
+  it('prints --help for every command', async () => {
+    for (const c of ['read', 'serve', 'demo']) {
+      const r = await runCli([c, '--help']);
+      assert.equal(r.code, 0, c);
+      assert.match(r.out, new RegExp(`nullbench ${c}`));
+    }
+  });
+
+  it('read --json prints one JSON object per reading with raw, dbm_rx, dbm_dut, freq_hz', async () => {
+    const r = await runCli([
+      'read',
+      '--source',
+      'sim:fast',
+      '--count',
+      '4',
+      '--json',
+      '--path',
+      'pad:20,cable:0.4',
+    ]);
+    assert.equal(r.code, 0, r.err);
+    const lines = r.out
+      .trim()
+      .split('\n')
+      .map((l) => JSON.parse(l));
+    assert.equal(lines.length, 4);
+    for (const l of lines) {
+      // IARU R.1: S9 = -73 dBm below 30 MHz, strength is dB relative to S9.
+      assert.equal(l.dbm_rx, -73 + l.raw);
+      assert.ok(Math.abs(l.dbm_dut - (l.dbm_rx + 20.4)) < 1e-9);
+      assert.equal(l.freq_hz, 7_100_000);
+    }
+  });
+
+  it('read tunes to --freq-hz', async () => {
+    const r = await runCli([
+      'read',
+      '--source',
+      'sim:fast',
+      '--count',
+      '1',
+      '--json',
+      '--freq-hz',
+      '7101000',
+    ]);
+    assert.equal(JSON.parse(r.out).freq_hz, 7_101_000);
+  });
+
+  it('names the bad part of a malformed --path and exits 2', async () => {
+    const r = await runCli(['read', '--source', 'sim:fast', '--count', '1', '--path', 'pad:20,cabel:0.4']);
+    assert.equal(r.code, 2);
+    assert.match(r.err, /--path/);
+    assert.match(r.err, /cabel/);
+    assert.equal(r.out, '');
+  });
+
+  it('refuses a negative pad, an unknown option and an unknown source, each named', async () => {
+    const a = await runCli(['read', '--source', 'sim:fast', '--path', 'pad:-20']);
+    assert.equal(a.code, 2);
+    assert.match(a.err, /pad/);
+    const b = await runCli(['read', '--sauce', 'sim']);
+    assert.equal(b.code, 2);
+    assert.match(b.err, /sauce/);
+    const c = await runCli(['read', '--source', 'telepathy:1']);
+    assert.equal(c.code, 2);
+    assert.match(c.err, /unknown source "telepathy:1"/);
+  });
+
+  it('demo seeds an invented scenario into the given database, and refuses to seed it twice', async () => {
+    const t = tempDir();
+    try {
+      const db = join(t.dir, 'demo.db');
+      const r = await runCli(['demo', '--db', db, '--json']);
+      assert.equal(r.code, 0, r.err);
+      const s = JSON.parse(r.out);
+      assert.equal(s.units, 6);
+      assert.equal(s.sessions, 6);
+      const conn = new Database(db, { readonly: true });
+      const revs = conn.prepare('SELECT COUNT(*) AS n FROM revisions').get() as { n: number };
+      const kept = conn.prepare('SELECT COUNT(*) AS n FROM readings WHERE kept = 1').get() as { n: number };
+      // Revision R2's better layout shows as a deeper carrier null than R1's, in the stored readings.
+      const best = conn
+        .prepare(
+          `SELECT r.name AS rev, MIN(x.dbm_dut) AS best FROM readings x JOIN sessions s ON s.id = x.session_id
+           JOIN units u ON u.id = s.unit_id JOIN revisions r ON r.id = u.revision_id
+           WHERE x.kept = 1 AND x.role = 'carrier' GROUP BY r.name ORDER BY r.name`,
+        )
+        .all() as { rev: string; best: number }[];
+      conn.close();
+      assert.equal(revs.n, 2);
+      assert.equal(kept.n, s.keptReadings);
+      assert.equal(best.length, 2);
+      assert.ok(best[1].best < best[0].best - 5, `R2 deeper than R1: ${JSON.stringify(best)}`);
+      const again = await runCli(['demo', '--db', db]);
+      assert.equal(again.code, 1);
+      assert.match(again.err, /already/);
+    } finally {
+      t.cleanup();
+    }
+  });
+
+  it('runs as the installed command (npx nullbench) with a real exit code', () => {
+    assert.ok(existsSync('dist/cli.js'), 'npm test builds dist/ first');
+    const r = runBin(['read', '--source', 'sim:fast', '--count', '2', '--json']);
+    assert.equal(r.code, 0, r.err);
+    assert.equal(r.out.trim().split('\n').length, 2);
+    const bad = runBin(['frobnicate']);
+    assert.equal(bad.code, 2);
+  });
+});
