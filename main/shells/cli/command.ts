@@ -49,3 +49,15 @@ export function reportError(e: unknown, io: Io): number {
   io.err(`error: ${e instanceof Error ? e.message : String(e)}\n`);
   return 1;
 }
+
+/** Levels in dBm are often negative: let "--max-input-dbm -10" mean "--max-input-dbm=-10" as a user expects. */
+export function joinNegativeNumbers(argv: string[], options: string[]): string[] {
+  const out: string[] = [];
+  for (let i = 0; i < argv.length; i++) {
+    if (options.includes(argv[i]) && /^-(\d|\.\d)/.test(argv[i + 1] ?? '')) {
+      out.push(`${argv[i]}=${argv[i + 1]}`);
+      i++;
+    } else out.push(argv[i]);
+  }
+  return out;
+}

@@ -1,11 +1,12 @@
 // Runs in Node. The command-line shell: one explicit list of commands, one line each.
 import type { Command, Io } from './command';
 import { demoCommand } from './demo';
+import { logCommand } from './log';
 import { measureCommand } from './measure';
 import { readCommand } from './read';
 import { serveCommand } from './serve';
 
-export const COMMANDS: Command[] = [readCommand, serveCommand, demoCommand, measureCommand];
+export const COMMANDS: Command[] = [readCommand, serveCommand, demoCommand, measureCommand, logCommand];
 
 export function usage(): string {
   const w = Math.max(...COMMANDS.map((c) => c.name.length));

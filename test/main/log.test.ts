@@ -1,0 +1,186 @@
+import { describe, it } from 'node:test';
+import assert from 'node:assert/strict';
+import { join } from 'node:path';
+import Database from 'better-sqlite3';
+import { main } from '../../main/shells/cli/index';
+import { pacedSource } from '../../main/bench/pace';
+import { createSource } from '../../main/sources';
+import { tempDir } from '../helpers/tmp';
+import { runCli } from '../helpers/cli';
+
+const SETUP = ['--tx-pep-dbm', '30', '--max-input-dbm', '10', '--path', 'coupler:30,pad:20'];
+
+describe('nullbench log', () => {
+  it('prints each reading only once another connection can already read it from the database', async () => {
+    const tmp = tempDir();
+    const db = join(tmp.dir, 'log.db');
+    try {
+      let reader: Database.Database | null = null;
+      const seen: number[] = [];
+      const code = await main(
+        ['log', '--db', db, '--source', 'sim:seed=2,fast', '--rate-hz', '200', '--for-s', '0.6', ...SETUP],
+        {
+          out: (s) => {
+            const r = JSON.parse(s) as { id: number; dbm_dut: number };
+            // A second connection sees committed rows only: the line must come after the commit.
+            reader ??= new Database(db, { readonly: true });
+            const row = reader.prepare('SELECT dbm_dut FROM readings WHERE id = ?').get(r.id) as
+              { dbm_dut: number } | undefined;
+            assert.ok(row, `reading ${r.id} was printed before it was committed`);
+            assert.equal(row.dbm_dut, r.dbm_dut);
+            seen.push(r.id);
+          },
+          err: () => undefined,
+        },
+      );
+      (reader as Database.Database | null)?.close();
+      assert.equal(code, 0);
+      assert.ok(seen.length >= 20, `only ${seen.length} readings in 0.6 s at 200/s`);
+      const conn = new Database(db, { readonly: true });
+      const s = conn.prepare('SELECT ended_at FROM sessions').all() as { ended_at: string | null }[];
+      assert.equal(s.length, 1);
+      assert.notEqual(s[0].ended_at, null, 'a normal stop closes the session');
+      assert.equal(
+        (conn.prepare('SELECT COUNT(*) AS n FROM readings').get() as { n: number }).n,
+        seen.length,
+      );
+      conn.close();
+    } finally {
+      tmp.cleanup();
+    }
+  });
+
+  it('creates the default "log" unit once and reuses it; --unit/--design/--revision name a new one', async () => {
+    const tmp = tempDir();
+    const db = join(tmp.dir, 'log.db');
+    try {
+      for (let i = 0; i < 2; i++) {
+        const r = await runCli(['log', '--db', db, '--source', 'sim:fast', '--for-s', '0.1', ...SETUP]);
+        assert.equal(r.code, 0, r.err);
+      }
+      const r = await runCli([
+        'log',
+        '--db',
+        db,
+        '--source',
+        'sim:fast',
+        '--for-s',
+        '0.1',
+        '--unit',
+        'KX-7',
+        '--design',
+        'Wren',
+        '--revision',
+        'B',
+        ...SETUP,
+      ]);
+      assert.equal(r.code, 0, r.err);
+      const conn = new Database(db, { readonly: true });
+      const rows = conn
+        .prepare(
+          `SELECT d.name AS design, r.name AS revision, u.serial, COUNT(s.id) AS sessions FROM units u
+           JOIN revisions r ON r.id = u.revision_id JOIN designs d ON d.id = r.design_id
+           JOIN sessions s ON s.unit_id = u.id GROUP BY u.id ORDER BY u.serial`,
+        )
+        .all();
+      conn.close();
+      assert.deepEqual(rows, [
+        { design: 'Wren', revision: 'B', serial: 'KX-7', sessions: 1 },
+        { design: 'Bench log', revision: 'log', serial: 'log', sessions: 2 },
+      ]);
+    } finally {
+      tmp.cleanup();
+    }
+  });
+
+  it('refuses an unsafe set-up with EUNSAFE before writing anything', async () => {
+    const tmp = tempDir();
+    const db = join(tmp.dir, 'log.db');
+    try {
+      const r = await runCli([
+        'log',
+        '--db',
+        db,
+        '--source',
+        'sim:fast',
+        '--tx-pep-dbm',
+        '50',
+        '--max-input-dbm',
+        '-10',
+        '--for-s',
+        '1',
+      ]);
+      assert.equal(r.code, 1);
+      assert.match(r.err, /EUNSAFE.*--path: refused: .*rated maximum of -10 dBm/);
+      const conn = new Database(db, { readonly: true });
+      for (const t of ['designs', 'revisions', 'units', 'sessions', 'readings'])
+        assert.equal((conn.prepare(`SELECT COUNT(*) AS n FROM ${t}`).get() as { n: number }).n, 0, t);
+      conn.close();
+    } finally {
+      tmp.cleanup();
+    }
+  });
+
+  it('continues an open session with --session (after a crash), and refuses a closed one or set-up options', async () => {
+    const tmp = tempDir();
+    const db = join(tmp.dir, 'log.db');
+    try {
+      const first = await runCli(['log', '--db', db, '--source', 'sim:fast', '--for-s', '0.2', ...SETUP]);
+      const id = (JSON.parse(first.out.split('\n')[0]) as { session_id: string }).session_id;
+      // What a crash leaves behind: the session still open.
+      const conn = new Database(db);
+      conn.prepare('UPDATE sessions SET ended_at = NULL').run();
+      conn.close();
+      const more = await runCli(['log', '--db', db, '--session', id, '--for-s', '0.2', '--rate-hz', '50']);
+      assert.equal(more.code, 0, more.err);
+      const lines = more.out.trim().split('\n');
+      assert.ok(lines.length >= 2);
+      for (const l of lines) assert.equal((JSON.parse(l) as { session_id: string }).session_id, id);
+
+      const closed = await runCli(['log', '--db', db, '--session', id, '--for-s', '0.2']);
+      assert.equal(closed.code, 1);
+      assert.match(closed.err, /ECONFLICT.*--session: session .* was closed/);
+      const mixed = await runCli(['log', '--db', db, '--session', id, '--path', 'pad:20']);
+      assert.equal(mixed.code, 2);
+      assert.match(mixed.err, /--path: --session continues a stored session/);
+      const unknown = await runCli(['log', '--db', db, '--session', 'nope']);
+      assert.equal(unknown.code, 1);
+      assert.match(unknown.err, /ENOTFOUND.*--session: no session with id "nope"/);
+    } finally {
+      tmp.cleanup();
+    }
+  });
+
+  it('names each bad option', async () => {
+    const cases: [string[], RegExp][] = [
+      [['--rate-hz', '0', ...SETUP], /--rate-hz: must be above 0/],
+      [['--rate-hz', 'fast', ...SETUP], /--rate-hz: must be a number/],
+      [['--for-s', '-1', ...SETUP], /--for-s: must be above 0 s/],
+      [['--role', 'carier', ...SETUP], /--role: unknown point "carier"/],
+      [['--max-input-dbm', '10'], /--tx-pep-dbm: is required/],
+      [['--tx-pep-dbm', '30', '--max-input-dbm', '10', '--carrier-hz', '-5'], /--carrier-hz: /],
+      [['--source', 'radio', ...SETUP], /source: unknown source "radio"/],
+    ];
+    for (const [args, want] of cases) {
+      const r = await runCli(['log', '--db', ':memory:', ...args]);
+      assert.equal(r.code, 2, args.join(' '));
+      assert.match(r.err, want);
+    }
+  });
+});
+
+describe('pacedSource()', () => {
+  it('spaces readings 1/rate apart on the wall clock, even on a virtual-clock source', async () => {
+    const s = pacedSource(createSource('sim:fast'), 50);
+    const t0 = Date.now();
+    for (let i = 0; i < 11; i++) await s.read();
+    const ms = Date.now() - t0;
+    // 10 intervals of 20 ms; timers never fire early, and a loaded machine may be late.
+    assert.ok(ms >= 195 && ms < 1000, `11 readings at 50/s took ${ms} ms`);
+  });
+
+  it('refuses a rate that is not positive and finite', () => {
+    assert.throws(() => pacedSource(createSource('sim:fast'), 0), /rateHz: must be between/);
+    assert.throws(() => pacedSource(createSource('sim:fast'), Number.NaN), /rateHz: must be a finite number/);
+  });
+});
