@@ -14,7 +14,11 @@ export interface Migration {
   sql: string;
 }
 
-/** Reads migrations/NNN_name.sql, ordered by number; a gap or a duplicate number is a packaging error. */
+/**
+ * Reads migrations/NNN_name.sql, ordered by number; a duplicate number is a packaging error. Numbers are
+ * reserved per feature while features are built side by side, so a higher one may land before a lower one:
+ * gaps are allowed, and migrate() applies every migration not yet recorded, lowest first.
+ */
 export function loadMigrations(dir = migrationsDir()): Migration[] {
   const files = readdirSync(dir).filter((f) => /^\d{3}_[a-z0-9_]+\.sql$/.test(f));
   const list = files
@@ -25,8 +29,10 @@ export function loadMigrations(dir = migrationsDir()): Migration[] {
     }))
     .sort((a, b) => a.version - b.version);
   list.forEach((m, i) => {
-    if (m.version !== i + 1)
-      throw new Error(`migrations: expected version ${i + 1}, found ${m.version} (${m.name})`);
+    if (m.version < 1)
+      throw new Error(`migrations: version numbers start at 1, found ${m.version} (${m.name})`);
+    if (i > 0 && m.version === list[i - 1].version)
+      throw new Error(`migrations: version ${m.version} twice (${list[i - 1].name}, ${m.name})`);
   });
   return list;
 }
@@ -64,18 +70,24 @@ export function migrate(db: Db, migrations: Migration[]): number {
   db.exec(
     'CREATE TABLE IF NOT EXISTS schema_migrations (version INTEGER PRIMARY KEY, name TEXT NOT NULL, applied_at TEXT NOT NULL)',
   );
-  const current = schemaVersion(db);
   const latest = migrations.length ? migrations[migrations.length - 1].version : 0;
-  if (current > latest) {
+  const applied = new Set(
+    (db.prepare('SELECT version FROM schema_migrations').all() as { version: number }[]).map(
+      (r) => r.version,
+    ),
+  );
+  const known = new Set(migrations.map((m) => m.version));
+  const unknown = [...applied].filter((v) => !known.has(v)).sort((a, b) => a - b);
+  if (unknown.length) {
     throw new BenchError(
       'ECONFLICT',
-      `this database has schema version ${current}, newer than this Nullbench understands (${latest}); ` +
-        'open it with a newer Nullbench, nothing was changed',
+      `this database has schema version ${unknown[unknown.length - 1]}, made by a newer Nullbench than this ` +
+        `one (which knows ${[...known].join(', ')}); open it with a newer Nullbench, nothing was changed`,
       'database',
     );
   }
   for (const m of migrations) {
-    if (m.version <= current) continue;
+    if (applied.has(m.version)) continue;
     db.transaction(() => {
       db.exec(m.sql);
       db.prepare('INSERT INTO schema_migrations (version, name, applied_at) VALUES (?, ?, ?)').run(
