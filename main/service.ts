@@ -18,6 +18,7 @@ import { assertReceiverSafe, validatePath } from '../app/path';
 import { benchErrorFromZod } from '../app/zodissue';
 import { validateCalibration } from '../app/calibration';
 import { LiveBench, type LiveOptions } from './bench/live';
+import { seedDemo } from './demo';
 import { createSource, findDriver } from './sources';
 import type { LevelSource } from './sources/types';
 import type { Store } from './store/store';
@@ -80,6 +81,7 @@ export class Service {
       },
       sweep: (a) => this.sweep(a),
       readings: (a) => this.store.readings(a.sessionId, { keptOnly: a.keptOnly, limit: a.limit }),
+      loadDemo: () => seedDemo(this.store),
     };
   }
 
@@ -158,7 +160,8 @@ export class Service {
     const session = this.store.getSession(id);
     await this.closeSession();
     const source = this.makeSource(session.receiver.source);
-    const live = new LiveBench(this.store, session, source, this.liveOpts);
+    const last = this.store.readings(id, { limit: 1 })[0];
+    const live = new LiveBench(this.store, session, source, { ...this.liveOpts, initialTrims: last?.trims });
     live.on('reading', (r) => this.emit('reading', r));
     live.on('error', (e) => this.emit('notice', { level: 'error', code: e.code, message: e.message }));
     live.on('state', () => this.emit('status', this.status()));

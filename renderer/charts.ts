@@ -72,6 +72,16 @@ export class StripChart {
     this.dirty = false;
     const last = this.points.length ? this.points[this.points.length - 1].t : 0;
     this.chart.data.datasets[0].data = this.points.map((p) => ({ x: (p.t - last) / 1000, y: p.y }));
+    // At least 10 dB of scale, so a steady level does not fill the panel with quantisation steps.
+    const ys = this.points.map((p) => p.y).filter(Number.isFinite);
+    const y = this.chart.options.scales?.y;
+    if (y && ys.length) {
+      const lo = Math.min(...ys);
+      const hi = Math.max(...ys);
+      const pad = Math.max(0, 10 - (hi - lo)) / 2;
+      y.min = Math.floor(lo - pad - 1);
+      y.max = Math.ceil(hi + pad + 1);
+    }
     this.chart.update('none');
   }
 }
@@ -80,7 +90,12 @@ export interface NullPoint {
   x: number;
   y: number;
   floorLimited: boolean;
+  /** Which series the point belongs to, e.g. "Balance C at 5.5 turns". */
+  group: string;
 }
+
+/** Older series fade towards the panel colour; the newest is amber. */
+const GROUP_COLOURS = ['#5b6f66', '#7f8f6a', '#a59f5c', '#c9a94d', '#f2b33d'];
 
 export class NullChart {
   readonly chart: Chart<'scatter', { x: number; y: number }[]>;
@@ -111,24 +126,43 @@ export class NullChart {
     extra: ChartDataset<'scatter', { x: number; y: number }[]>[] = [],
   ): void {
     const sorted = [...points].sort((a, b) => a.x - b.x);
-    const datasets: ChartDataset<'scatter', { x: number; y: number }[]>[] = [
-      {
-        label: 'kept carrier readings',
-        data: sorted.filter((p) => !p.floorLimited).map(({ x, y }) => ({ x, y })),
-        backgroundColor: '#f2b33d',
-        borderColor: '#f2b33d',
+    // One series per setting of the other trimmers, newest last: each is a V of its own, and the
+    // series show how the null deepens as the other trimmer comes closer to balance.
+    const groups = new Map<string, NullPoint[]>();
+    for (const p of points) {
+      const g = groups.get(p.group) ?? [];
+      g.push(p);
+      groups.set(p.group, g);
+    }
+    // A setting with fewer than three points is no curve: those points go into one grey series.
+    const curves = [...groups.entries()].filter(([, g]) => g.length >= 3);
+    const recent = curves.slice(-GROUP_COLOURS.length);
+    const loose = points.filter((p) => !recent.some(([name]) => name === p.group));
+    const series = (label: string, pts: NullPoint[], colour: string, line: boolean) => {
+      const byX = [...pts].sort((a, b) => a.x - b.x);
+      return {
+        label,
+        data: byX.map(({ x, y }) => ({ x, y })),
+        backgroundColor: colour,
+        borderColor: colour,
+        borderWidth: 1,
+        showLine: line,
+        // A reading at the receiver floor is a bound: drawn as a downward triangle.
+        pointStyle: byX.map((p) => (p.floorLimited ? 'triangle' : 'circle')),
+        pointRotation: byX.map((p) => (p.floorLimited ? 180 : 0)),
         pointRadius: 4,
-      },
-      {
-        label: 'at receiver floor (true level lower)',
-        data: sorted.filter((p) => p.floorLimited).map(({ x, y }) => ({ x, y })),
-        backgroundColor: '#ef7a85',
-        pointStyle: 'triangle',
-        pointRotation: 180,
-        pointRadius: 5,
-      },
-      ...extra,
-    ];
+      };
+    };
+    const datasets: ChartDataset<'scatter', { x: number; y: number }[]>[] = recent.map(([name, pts], i) =>
+      series(
+        name || 'kept carrier readings',
+        pts,
+        GROUP_COLOURS[GROUP_COLOURS.length - recent.length + i],
+        true,
+      ),
+    );
+    if (loose.length) datasets.unshift(series('at other settings', loose, '#6d8288', false));
+    datasets.push(...extra);
     if (current !== null && sorted.length) {
       const ys = sorted.map((p) => p.y);
       datasets.push({

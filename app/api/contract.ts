@@ -42,6 +42,8 @@ export const CALLS = {
     to: z.number().finite(),
     steps: z.number().int().min(2).max(200),
   }),
+  /** Fill the database with the invented demo scenario (refused when it is already there). */
+  loadDemo: z.object({}),
   readings: SessionRef.extend({
     keptOnly: z.boolean().default(false),
     limit: z.number().int().min(1).max(1e6).default(5000),

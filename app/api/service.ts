@@ -33,6 +33,7 @@ export interface CallResults {
   keep: Reading;
   sweep: SweepResult;
   readings: Reading[];
+  loadDemo: { designId: string; units: number; sessions: number; keptReadings: number };
 }
 
 export interface EventPayloads {

@@ -29,6 +29,8 @@ export interface LiveOptions {
   settleTimeoutMs?: number;
   /** Pause between readings, ms (on the source's clock). */
   intervalMs?: number;
+  /** Where the trimmers stand when the bench starts (the last stored positions of the session). */
+  initialTrims?: TrimPositions;
 }
 
 /** How long after turning a trimmer the bench waits before the first reading (a hand is still on it). */
@@ -40,7 +42,7 @@ export class LiveBench extends EventEmitter<LiveEvents> {
   readonly corrector: Corrector;
   private readonly store: Store;
   private readonly settle: SettleDetector;
-  private readonly opts: Required<LiveOptions>;
+  private readonly opts: Required<Omit<LiveOptions, 'initialTrims'>>;
   private running = false;
   private loopDone: Promise<void> | null = null;
   private latest: LiveReading | null = null;
@@ -78,7 +80,11 @@ export class LiveBench extends EventEmitter<LiveEvents> {
       toleranceDb: this.opts.settleTolDb,
       timeoutMs: this.opts.settleTimeoutMs,
     });
-    this.trims = Object.fromEntries(session.trims.map((t) => [t.key, (t.min + t.max) / 2]));
+    // Continue where the session left off; a new session starts each trimmer mid-travel.
+    const last = opts.initialTrims ?? {};
+    this.trims = Object.fromEntries(
+      session.trims.map((t) => [t.key, typeof last[t.key] === 'number' ? last[t.key] : (t.min + t.max) / 2]),
+    );
   }
 
   get isRunning(): boolean {

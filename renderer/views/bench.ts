@@ -41,7 +41,12 @@ export class BenchView {
     this.session = session;
     this.nullTrim = session.trims[0]?.key ?? 'A';
     this.render();
-    this.kept = await this.api.call('readings', { sessionId: session.id, keptOnly: true });
+    const [kept, status] = await Promise.all([
+      this.api.call('readings', { sessionId: session.id, keptOnly: true }),
+      this.api.call('status', {}),
+    ]);
+    this.kept = kept;
+    this.onStatus(status);
     this.refreshKept();
   }
 
@@ -71,7 +76,11 @@ export class BenchView {
       r.role !== 'upper' && r.role !== 'lower' && ref !== null
         ? `${signed(r.dbmDut - ref.dbm)} dB ${ref.label}`
         : '';
-    e.settle.textContent = r.settled ? 'steady' : `moving (spread ${r.spreadDb.toFixed(1)} dB)`;
+    e.settle.textContent = r.settled
+      ? 'steady'
+      : r.spreadDb > 0
+        ? `settling (spread ${r.spreadDb.toFixed(1)} dB)`
+        : 'settling';
     e.settle.className = `settle ${r.settled ? 'steady' : 'moving'}`;
     e.flags.textContent = [
       r.floorLimited ? 'at the receiver floor: true level is lower' : '',
@@ -415,7 +424,15 @@ export class BenchView {
     const def = s.trims.find((t) => t.key === this.nullTrim) ?? s.trims[0];
     const pts = this.kept
       .filter((r) => r.role === 'carrier' && typeof r.trims[def.key] === 'number')
-      .map((r) => ({ x: r.trims[def.key], y: r.dbmDut, floorLimited: r.floorLimited }));
+      .map((r) => ({
+        x: r.trims[def.key],
+        y: r.dbmDut,
+        floorLimited: r.floorLimited,
+        group: s.trims
+          .filter((t) => t.key !== def.key && typeof r.trims[t.key] === 'number')
+          .map((t) => `${t.label} at ${round(r.trims[t.key], 3)} ${t.unit}`)
+          .join(', '),
+      }));
     const now = this.status?.trims[def.key] ?? null;
     this.nullChart.show(pts, `${def.label} (${def.unit})`, now);
     this.els.nullNote.textContent = pts.length

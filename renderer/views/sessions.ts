@@ -37,22 +37,49 @@ export async function showSessionsDialog(deps: SessionsDialogDeps, closable: boo
   );
   const two = h('div', { class: 'two' });
   two.append(
-    sessionList(sessions, async (id) => {
-      const s = await api.call('openSession', { sessionId: id });
-      close();
-      deps.onOpened(s);
-    }),
+    sessionList(
+      sessions,
+      async (id) => {
+        const s = await api.call('openSession', { sessionId: id });
+        close();
+        deps.onOpened(s);
+      },
+      deps,
+    ),
     newSessionForm(tree, deps, close),
   );
   dialog.append(two);
   document.body.append(overlay);
 }
 
-function sessionList(sessions: SessionSummary[], open: (id: string) => Promise<void>): HTMLElement {
+function sessionList(
+  sessions: SessionSummary[],
+  open: (id: string) => Promise<void>,
+  deps: SessionsDialogDeps,
+): HTMLElement {
   const card = h('section', { class: 'card' }, h('h2', {}, 'Earlier sessions'));
   if (!sessions.length) {
+    const msg = h('p', { class: 'hint', id: 'demo-msg' });
+    const btn = h('button', { type: 'button', id: 'load-demo' }, 'Load demo history');
+    btn.addEventListener('click', () => {
+      btn.disabled = true;
+      msg.textContent = 'Writing an invented demo scenario (six boards, two revisions)…';
+      void deps.api
+        .call('loadDemo', {})
+        .then(() => {
+          document.getElementById('sessions-dialog')?.remove();
+          return showSessionsDialog(deps, true);
+        })
+        .catch((e: Error) => {
+          msg.textContent = e.message;
+          btn.disabled = false;
+        });
+    });
     card.append(
       h('p', { class: 'hint' }, 'None yet. Start one on the right; the simulated bench needs no hardware.'),
+      h('p', { class: 'hint' }, 'Or look around first in an invented history of earlier sessions:'),
+      btn,
+      msg,
     );
     return card;
   }
@@ -125,6 +152,23 @@ function newSessionForm(tree: Tree, deps: SessionsDialogDeps, close: () => void)
   const bw = input('bandwidth', '500', { inputmode: 'decimal' });
   const maxIn = input('maxin', '10', { inputmode: 'decimal' });
   const operator = input('operator', '');
+  // The trimmers the builder will turn: names and units are theirs; B may be left empty for a one-trimmer board.
+  const trimRows = [
+    {
+      key: 'A',
+      label: input('trimA-label', 'Balance R'),
+      unit: input('trimA-unit', 'turns'),
+      min: input('trimA-min', '0'),
+      max: input('trimA-max', '10'),
+    },
+    {
+      key: 'B',
+      label: input('trimB-label', 'Balance C'),
+      unit: input('trimB-unit', 'turns'),
+      min: input('trimB-min', '0'),
+      max: input('trimB-max', '10'),
+    },
+  ];
   const pathEcho = h('p', { class: 'hint', id: 'path-echo' });
   const err = h('div', { class: 'error-text', id: 'session-error', role: 'alert' });
   const echo = () => {
@@ -163,6 +207,16 @@ function newSessionForm(tree: Tree, deps: SessionsDialogDeps, close: () => void)
     field('Carrier (MHz)', carrier),
     field('Audio tone (Hz)', tone),
     field('Operator', operator),
+    ...trimRows.map((t) =>
+      h(
+        'div',
+        { class: 'wide trim-def' },
+        field(`Trimmer ${t.key} name${t.key === 'B' ? ' (empty: none)' : ''}`, t.label),
+        field('unit', t.unit),
+        field('from', t.min),
+        field('to', t.max),
+      ),
+    ),
     h(
       'div',
       { class: 'wide' },
@@ -213,10 +267,15 @@ function newSessionForm(tree: Tree, deps: SessionsDialogDeps, close: () => void)
           toneHz: num(tone, 'Audio tone'),
           txPepDbm: 10 * Math.log10(pepW * 1000),
           operator: operator.value,
-          trims: [
-            { key: 'A', label: 'Balance R', unit: 'turns', min: 0, max: 10 },
-            { key: 'B', label: 'Balance C', unit: 'turns', min: 0, max: 10 },
-          ],
+          trims: trimRows
+            .filter((t) => t.key === 'A' || t.label.value.trim() !== '')
+            .map((t) => ({
+              key: t.key,
+              label: t.label.value,
+              unit: t.unit.value,
+              min: num(t.min, `Trimmer ${t.key} from`),
+              max: num(t.max, `Trimmer ${t.key} to`),
+            })),
         });
         await api.call('openSession', { sessionId: s.id });
         close();
