@@ -33,13 +33,17 @@ export default tseslint.config(
       'no-restricted-imports': [
         'error',
         {
+          // Exact names: a pattern "path" would also catch our own "./path" module.
+          paths: nodeBuiltins
+            .flatMap((m) => [m, `node:${m}`])
+            .map((name) => ({ name, message: 'app/ is runtime-free: no Node built-ins.' })),
           patterns: [
             {
               group: ['**/main/**', '../main', '../../main', '**/renderer/**', '../renderer'],
               message: 'app/ must not import from main/ or renderer/ (see DESIGN.md).',
             },
             {
-              group: nodeBuiltins.flatMap((m) => [m, `node:${m}`]),
+              group: ['node:*'],
               message: 'app/ is runtime-free: no Node built-ins.',
             },
           ],

@@ -19,8 +19,10 @@ import { benchErrorFromZod } from '../app/zodissue';
 import { validateCalibration } from '../app/calibration';
 import { LiveBench, type LiveOptions } from './bench/live';
 import { seedDemo } from './demo';
+import { PlanDesk } from './plans';
+import { ReceiverDesk } from './receivers';
 import { createSource, findDriver } from './sources';
-import type { LevelSource } from './sources/types';
+import type { LevelSource, SourceEnv } from './sources/types';
 import type { Store } from './store/store';
 
 export const VERSION = '0.1.0';
@@ -35,19 +37,22 @@ export interface ServiceOptions {
   mode: Status['mode'];
   live?: LiveOptions;
   /** Overrides how sources are made (tests inject fakes). */
-  createSource?: (spec: string) => LevelSource;
+  createSource?: (spec: string, env?: SourceEnv) => LevelSource;
 }
 
-type Handlers = { [K in CallName]: (args: ParsedArgs<K>) => Promise<CallResults[K]> | CallResults[K] };
+export type Handlers = { [K in CallName]: (args: ParsedArgs<K>) => Promise<CallResults[K]> | CallResults[K] };
 
 export class Service {
   readonly store: Store;
   private readonly mode: Status['mode'];
   private readonly liveOpts: LiveOptions;
-  private readonly makeSource: (spec: string) => LevelSource;
+  private readonly makeSource: (spec: string, env?: SourceEnv) => LevelSource;
   private readonly events = new EventEmitter();
   private live: LiveBench | null = null;
   private readonly handlers: Handlers;
+  readonly receivers: ReceiverDesk;
+  readonly plans: PlanDesk;
+  private lastOverloadWarning = 0;
 
   constructor(opts: ServiceOptions) {
     this.store = opts.store;
@@ -55,6 +60,19 @@ export class Service {
     this.liveOpts = opts.live ?? {};
     this.makeSource = opts.createSource ?? createSource;
     this.events.setMaxListeners(100);
+    this.receivers = new ReceiverDesk({
+      store: this.store,
+      makeSource: this.makeSource,
+      busySource: () => this.live?.source.spec ?? null,
+    });
+    this.plans = new PlanDesk({
+      store: this.store,
+      live: () => this.live,
+      open: (id) => this.openSession(id),
+      progress: (p) => this.emit('progress', p),
+      notice: (n) => this.emit('notice', n),
+      caution: RF_CAUTION,
+    });
     this.handlers = {
       status: () => this.status(),
       tree: () => this.store.tree(),
@@ -67,6 +85,12 @@ export class Service {
       openSession: (a) => this.openSession(a.sessionId),
       closeSession: () => this.closeSession(),
       tune: async (a) => {
+        if (this.plans.active)
+          throw new BenchError(
+            'ECONFLICT',
+            'a plan is stepping the receiver: cancel it before tuning by hand',
+            'role',
+          );
         await this.requireLive().tune(a.role);
         return this.status();
       },
@@ -82,6 +106,8 @@ export class Service {
       sweep: (a) => this.sweep(a),
       readings: (a) => this.store.readings(a.sessionId, { keptOnly: a.keptOnly, limit: a.limit }),
       loadDemo: () => seedDemo(this.store),
+      ...this.receivers.handlers(),
+      ...this.plans.handlers(),
     };
   }
 
@@ -138,6 +164,8 @@ export class Service {
     const path = validatePath(a.path);
     if (a.receiver.calibration != null) validateCalibration(a.receiver.calibration);
     findDriver(a.receiver.source);
+    // The template is copied in full and the calibration made explicit for what the source reports.
+    const receiver = this.receivers.resolveSessionReceiver(a.receiver);
     a.trims.forEach((t, i) => {
       if (!(t.min < t.max))
         throw new BenchError('EINVAL', `min (${t.min}) must be below max (${t.max})`, `trims[${i}]`);
@@ -153,20 +181,39 @@ export class Service {
         throw new BenchError('EUNSAFE', `refused: ${e.message} ${RF_CAUTION}`, 'path');
       throw e;
     }
-    return this.store.createSession({ ...a, path, rxPepDbm });
+    return this.store.createSession({ ...a, receiver, path, rxPepDbm });
   }
 
   private async openSession(id: string): Promise<Session> {
     const session = this.store.getSession(id);
     await this.closeSession();
-    const source = this.makeSource(session.receiver.source);
+    const tpl = session.receiver.template;
+    const source = this.makeSource(session.receiver.source, tpl ? { template: tpl } : {});
     const last = this.store.readings(id, { limit: 1 })[0];
-    const live = new LiveBench(this.store, session, source, { ...this.liveOpts, initialTrims: last?.trims });
-    live.on('reading', (r) => this.emit('reading', r));
+    // A real receiver is polled about 20 times a second: its meter cannot move faster, and the database
+    // keeps every reading.
+    const intervalMs = this.liveOpts.intervalMs ?? (source.caps.reconnect ? 50 : 0);
+    const live = new LiveBench(this.store, session, source, {
+      ...this.liveOpts,
+      intervalMs,
+      initialTrims: last?.trims,
+    });
+    live.on('reading', (r) => {
+      this.emit('reading', r);
+      if (r.overload) this.warnOverload(r.dbmRx, session);
+    });
     live.on('error', (e) => this.emit('notice', { level: 'error', code: e.code, message: e.message }));
     live.on('state', () => this.emit('status', this.status()));
     this.live = live;
-    await live.start();
+    try {
+      await live.start();
+    } catch (e) {
+      this.live = null;
+      live.removeAllListeners();
+      await source.close().catch(() => undefined);
+      this.emit('status', this.status());
+      throw e;
+    }
     if (session.rxPepDbm > session.receiver.maxInputDbm - 10) {
       this.emit('notice', {
         level: 'warn',
@@ -178,7 +225,22 @@ export class Service {
     return session;
   }
 
+  /** At most one warning in 30 s: the reading flags stay on every stored reading. */
+  private warnOverload(dbmRx: number, session: Session): void {
+    const now = Date.now();
+    if (now - this.lastOverloadWarning < 30_000) return;
+    this.lastOverloadWarning = now;
+    this.emit('notice', {
+      level: 'warn',
+      code: 'EUNSAFE',
+      message:
+        `the receiver reads ${dbmRx.toFixed(1)} dBm at its input, within 10 dB of its rated maximum ` +
+        `(${session.receiver.maxInputDbm} dBm): it may be compressing and reading low. Add attenuation. ${RF_CAUTION}`,
+    });
+  }
+
   private async closeSession(): Promise<null> {
+    await this.plans.stopAll();
     const l = this.live;
     this.live = null;
     if (l) {

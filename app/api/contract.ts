@@ -9,6 +9,7 @@ import {
   TrimPositionsSchema,
   UnitInputSchema,
 } from './schemas';
+import { RECEIVER_CALLS } from './rxcalls';
 
 const SessionRef = z.object({ sessionId: z.string().min(1).max(64) });
 
@@ -48,6 +49,7 @@ export const CALLS = {
     keptOnly: z.boolean().default(false),
     limit: z.number().int().min(1).max(1e6).default(5000),
   }),
+  ...RECEIVER_CALLS,
 } as const;
 
 export type CallName = keyof typeof CALLS;

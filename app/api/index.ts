@@ -2,3 +2,4 @@
 export * from './schemas';
 export * from './contract';
 export * from './service';
+export * from './rxcalls';

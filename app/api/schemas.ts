@@ -99,6 +99,8 @@ export const ReceiverProfileSchema = z.object({
   bandwidthHz: z.number().positive().max(1e6),
   /** Rated maximum input at the antenna socket, dBm: the app refuses set-ups above it. */
   maxInputDbm: z.number().min(-60).max(50),
+  /** Serial sources: the command-set template, by name or in full; the session keeps a full copy. */
+  template: z.unknown().optional(),
 });
 export type ReceiverProfile = z.infer<typeof ReceiverProfileSchema>;
 

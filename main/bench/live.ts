@@ -107,11 +107,13 @@ export class LiveBench extends EventEmitter<LiveEvents> {
 
   async stop(): Promise<void> {
     this.running = false;
+    // Closing the source first ends a read that is waiting on a slow or broken link.
+    const closed = this.source.close();
     await this.loopDone;
     this.loopDone = null;
     for (const w of this.waiters.splice(0))
       w.reject(new BenchError('ECONFLICT', 'the live bench was stopped'));
-    await this.source.close();
+    await closed;
   }
 
   async tune(role: PointRole): Promise<void> {
@@ -248,6 +250,7 @@ export class LiveBench extends EventEmitter<LiveEvents> {
         // A source on a virtual clock answers at once: let timers and I/O run between readings.
         await new Promise((r) => setImmediate(r));
       } catch (e) {
+        if (!this.running) break;
         const err =
           e instanceof BenchError ? e : new BenchError('EIO', e instanceof Error ? e.message : String(e));
         this.lastError = err.message;

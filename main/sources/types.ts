@@ -19,6 +19,15 @@ export interface SourceCaps {
   trims: boolean;
   /** Can unbalance the modulator for the reference measurement (simulated bench). */
   unbalance: boolean;
+  /** Can set the receive mode and passband (network rig control). */
+  mode?: boolean;
+  /** Talks over a link that can break: errors are soft (ETIMEOUT, EPROTO) or need a reconnect (EIO). */
+  reconnect?: boolean;
+}
+
+/** What a driver may need besides its spec: a serial command-set template (already validated). */
+export interface SourceEnv {
+  template?: unknown;
 }
 
 export interface LevelSource {
@@ -27,6 +36,8 @@ export interface LevelSource {
   readonly caps: SourceCaps;
   /** The receiver's noise floor at the antenna socket, dBm, when the source knows it. */
   readonly noiseFloorDbm?: number;
+  /** What read() returns, when known before the first reading (after open() for sources that ask the receiver). */
+  readonly quantity?: RawQuantity;
   open(): Promise<void>;
   close(): Promise<void>;
   setFrequency(hz: number): Promise<void>;
@@ -49,5 +60,7 @@ export interface SourceDriver {
   /** True when this driver handles the spec (by its prefix). */
   matches(spec: string): boolean;
   /** Builds a source from a spec; throws BenchError EINVAL naming the bad part. */
-  create(spec: string): LevelSource;
+  create(spec: string, env?: SourceEnv): LevelSource;
+  /** What read() will return for this spec, known before connecting (default: strength-db). */
+  quantity?(spec: string, env?: SourceEnv): RawQuantity;
 }

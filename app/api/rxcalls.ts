@@ -1,0 +1,100 @@
+// Runs anywhere (app/ is runtime-free). The calls for real receivers: serial command-set templates, stored
+// receiver profiles, guided calibration, and frequency-stepped plans. Spread into CALLS (contract.ts); their
+// results into CallResults (service.ts).
+import { z } from 'zod';
+import type { Calibration } from '../calibration';
+import type { PlanRow, PlanReference, PlanRun } from '../plan';
+import type { StoredReceiver } from '../receiver';
+import type { SerialTemplate } from '../serialtemplate';
+
+const Id = z.string().min(1).max(64);
+
+export const RECEIVER_CALLS = {
+  /** Built-in and stored serial command-set templates. */
+  listTemplates: z.object({}),
+  /** Create or replace a stored template (validated); `replace: false` refuses an existing name. */
+  saveTemplate: z.object({ template: z.unknown(), replace: z.boolean().default(true) }),
+  deleteTemplate: z.object({ name: z.string().min(1).max(40) }),
+  listReceivers: z.object({}),
+  /** Create (no id) or update (with id) a receiver profile; validated in app/receiver. */
+  saveReceiver: z.object({ receiver: z.unknown() }),
+  deleteReceiver: z.object({ id: Id }),
+  /**
+   * Guided calibration, one step: read the receiver of a profile `count` times at `freqHz` (the generator's
+   * frequency) and return the mean. Refused while an open session reads the same receiver.
+   */
+  calibrationRead: z.object({
+    receiverId: Id,
+    freqHz: z.number().positive().max(300e9),
+    count: z.number().int().min(1).max(200).default(10),
+  }),
+  /** Fit a calibration table from injections (generator level, pad, reading) and, with save, store it. */
+  fitCalibration: z.object({
+    receiverId: Id,
+    injections: z.array(z.unknown()).min(2).max(200),
+    name: z.string().trim().min(1).max(120).optional(),
+    save: z.boolean().default(false),
+  }),
+  /** Start a frequency-stepped plan on the open session (or open `sessionId` first). */
+  planStart: z.object({ sessionId: Id.optional(), plan: z.unknown() }),
+  planCancel: z.object({ planId: Id }),
+  /** Continue a cancelled or interrupted plan at its first point not yet done. */
+  planResume: z.object({ planId: Id }),
+  /** Answer a manual step the plan waits for (unbalance the modulator, tune by hand): ok or stop. */
+  planContinue: z.object({ planId: Id, ok: z.boolean().default(true) }),
+  getPlan: z.object({ planId: Id }),
+  listPlans: z.object({ sessionId: Id }),
+} as const;
+
+export interface TemplateEntry {
+  template: SerialTemplate;
+  builtin: boolean;
+  updatedAt: string | null;
+}
+
+export interface CalibrationReadResult {
+  /** Power-free mean of the readings in the receiver's own quantity. */
+  raw: number;
+  n: number;
+  /** Largest minus smallest reading. */
+  spread: number;
+  quantity: string;
+  freqHz: number;
+}
+
+export interface FitResult {
+  calibration: Calibration;
+  /** Each injection's level at the receiver (generator minus pad) and what the fitted table gives for its reading. */
+  points: { raw: number; dbm: number }[];
+  receiver: StoredReceiver | null;
+}
+
+/** A plan run as the UI and CLI show it: the stored run, its result table, and what the runner is doing. */
+export interface PlanView extends PlanRun {
+  rows: PlanRow[];
+  reference: PlanReference | null;
+  /** Why there is no reference yet. */
+  referenceReason: string | null;
+  /** A runner is working on it in this process. */
+  active: boolean;
+  stage: string | null;
+  /** A manual step it waits for. */
+  waiting: { prompt: string; role: string; freqHz: number } | null;
+}
+
+export interface ReceiverCallResults {
+  listTemplates: TemplateEntry[];
+  saveTemplate: SerialTemplate;
+  deleteTemplate: null;
+  listReceivers: StoredReceiver[];
+  saveReceiver: StoredReceiver;
+  deleteReceiver: null;
+  calibrationRead: CalibrationReadResult;
+  fitCalibration: FitResult;
+  planStart: PlanView;
+  planCancel: PlanView;
+  planResume: PlanView;
+  planContinue: PlanView;
+  getPlan: PlanView;
+  listPlans: PlanView[];
+}
