@@ -336,8 +336,26 @@ export function fitNull2D(readings: readonly Reading2D[], opts?: Fit2DOptions): 
   const flip = g1 < 0 ? -1 : 1;
   const params = [a0, b0, flip * g1, flip * u, Math.abs(v), C];
   const r = fn(params);
-  const lm: LmResult = { ...best, params, r: r.r, J: r.J };
-  return summarise(p, o, lm, fn, sa, sb);
+  const full = summarise(p, o, { ...best, params, r: r.r, J: r.J }, fn, sa, sb, false);
+  if (full) return full;
+  // The data cannot tell the directions apart: refit the collinear model itself (v = 0), so that the
+  // valley it reports is flat as claimed. Only g1·a0 + u·b0 matters then, so b0 stays where it is.
+  const b0Held = params[1];
+  const reduced = (t: readonly number[]): Residuals => {
+    const res = fn([t[0], b0Held, t[1], t[2], 0, t[3]]);
+    return { r: res.r, J: res.J.map((row) => [row[0], row[2], row[3], row[5]]) };
+  };
+  const red = levenbergMarquardt(reduced, [params[0], params[2], params[3], params[5]], {
+    loss: o.loss,
+    fScale: o.lossScaleDb,
+    lower: [-Infinity, -Infinity, -Infinity, cLowDbm],
+    upper: [Infinity, Infinity, Infinity, upper[5]],
+    maxIterations: 300,
+  });
+  const s = red.params[1] < 0 ? -1 : 1;
+  const line = [red.params[0], b0Held, s * red.params[1], s * red.params[2], 0, red.params[3]];
+  const rl = fn(line);
+  return summarise(p, o, { ...red, params: line, r: rl.r, J: rl.J }, fn, sa, sb, true)!;
 }
 
 function summarise(
@@ -347,12 +365,14 @@ function summarise(
   fn: (t: readonly number[]) => Residuals,
   sa: number,
   sb: number,
-): NullFit2D {
+  valleyModel: boolean,
+): NullFit2D | null {
   const [a0, b0, g1, u, v, C] = lm.params;
   const c2 = dbmToMw(C);
   const { h } = normalEquations(lm, lm.weights);
   const used = p.c.filter((k, i) => !k.censored || lm.r[i] !== 0).length;
-  const dofFit = used - 6;
+  // The valley model has four free parameters (a0 and g1, u, C; b0 is held, v is 0).
+  const dofFit = used - (valleyModel ? 4 : 6);
   const sHat = dofFit >= 1 ? Math.sqrt((2 * lm.cost) / dofFit) : NaN;
   const estimated = Number.isFinite(sHat) && sHat > o.uDb;
   const sigmaDb = estimated ? sHat : o.uDb > 0 ? o.uDb : NaN;
@@ -368,7 +388,10 @@ function summarise(
   ];
   const gbAbs = Math.hypot(u, v);
   const sinAngle = gbAbs > 0 && g1 > 0 ? v / gbAbs : 0;
-  const collinear = !Number.isFinite(sd(0)) || !Number.isFinite(sd(1)) || !(v > 2 * sd(4)) || sinAngle < 1e-3;
+  const collinear =
+    valleyModel || !Number.isFinite(sd(0)) || !Number.isFinite(sd(1)) || !(v > 2 * sd(4)) || sinAngle < 1e-3;
+  // Collinear under the full model: the caller refits the valley model and summarises that instead.
+  if (collinear && !valleyModel) return null;
 
   const valley = symEigen(q).vectors[0];
   // Nearest valley point, measured in units of each axis' spread so that turns and degrees compare.
@@ -403,23 +426,28 @@ function summarise(
     return Number.isFinite(half) ? [y - half, y + half] : [-Infinity, Infinity];
   };
 
+  // A collinear pair leaves the position along the valley open, whatever the linearised numbers say.
+  const open = collinear || !Number.isFinite(sd(0)) || !Number.isFinite(sd(1));
   const ciOf = (x: number, s: number): [number, number] =>
-    Number.isFinite(s) ? [x - k * s, x + k * s] : [-Infinity, Infinity];
-  const open = !Number.isFinite(sd(0)) || !Number.isFinite(sd(1));
+    !open && Number.isFinite(s) ? [x - k * s, x + k * s] : [-Infinity, Infinity];
   const block: [[number, number], [number, number]] = [
     [cov[0][0], cov[0][1]],
     [cov[1][0], cov[1][1]],
   ];
   const k2 = ellipseRadius2(o.level, dof);
   const eig = symEigen(block);
-  const major = eig.vectors[1];
+  // Open: the major axis runs along the valley; across it the width stays finite.
+  const major = open ? valley : eig.vectors[1];
+  const across = [-major[1], major[0]];
+  const acrossVar = dot(across, matVec(block, across));
   const ellipse: ConfidenceEllipse = {
     centerA: best.a,
     centerB: best.b,
     cov: block,
     k2,
-    // Across a valley the width stays finite even when along it nothing is known.
-    semiAxes: [open ? Infinity : Math.sqrt(k2 * eig.values[1]), Math.sqrt(k2 * Math.max(eig.values[0], 0))],
+    semiAxes: open
+      ? [Infinity, Math.sqrt(k2 * Math.max(acrossVar, 0))]
+      : [Math.sqrt(k2 * eig.values[1]), Math.sqrt(k2 * Math.max(eig.values[0], 0))],
     angleRad: Math.atan2(major[1], major[0]),
   };
 

@@ -23,10 +23,13 @@ describe('fitNull1D()', () => {
     assert.ok(Math.abs(f.cDbm - BENCH.cDbm) < 1e-5, `c ${f.cDbm} dBm`);
     assert.equal(f.cIsUpperBound, false);
     assert.equal(f.bestPosition, f.x0);
-    assert.ok(Math.abs(f.bestDbm - BENCH.cDbm) < 1e-5);
+    assert.ok(Math.abs(f.bestDbm - BENCH.cDbm) < 1e-5, 'Math.abs(f.bestDbm - BENCH.cDbm) < 1e-5');
     // The reading at the null is the leakage plus the receiver's floor (power sum).
-    assert.ok(Math.abs(f.bestReadingDbm - powerSum(-75, -100)) < 1e-5);
-    assert.ok(f.residualDb < 1e-6);
+    assert.ok(
+      Math.abs(f.bestReadingDbm - powerSum(-75, -100)) < 1e-5,
+      'Math.abs(f.bestReadingDbm - powerSum(-75, -100)) < 1e-5',
+    );
+    assert.ok(f.residualDb < 1e-6, 'f.residualDb < 1e-6');
   });
 
   it('recovers them within their intervals from readings with 0.3 dB noise', () => {

@@ -102,8 +102,14 @@ describe('nullfit numerical helpers against numpy/scipy', () => {
       // Source: scipy.stats.norm.ppf (Debian python3-scipy).
       assert.ok(Math.abs(normalQuantile(p) - ref.norm[i]) < 1e-10, `z(${p})`);
     });
-    assert.ok(Math.abs(coverageFactor(0.95, Infinity) - ref.norm[0]) < 1e-10);
-    assert.ok(Math.abs(coverageFactor(0.95, 3) - ref.t[2]) < 1e-9);
+    assert.ok(
+      Math.abs(coverageFactor(0.95, Infinity) - ref.norm[0]) < 1e-10,
+      'Math.abs(coverageFactor(0.95, Infinity) - ref.norm[0]) < 1e-10',
+    );
+    assert.ok(
+      Math.abs(coverageFactor(0.95, 3) - ref.t[2]) < 1e-9,
+      'Math.abs(coverageFactor(0.95, 3) - ref.t[2]) < 1e-9',
+    );
   });
 
   it('ellipseRadius2() is 2·F(2, ν) from scipy.stats.f.ppf, and χ²(2) for infinite ν', () => {
@@ -112,7 +118,10 @@ describe('nullfit numerical helpers against numpy/scipy', () => {
       assert.ok(Math.abs(ellipseRadius2(p, k) - ref.ellipse[i]) < 1e-9 * ref.ellipse[i], `F(${p}, 2, ${k})`);
     });
     // Source: scipy.stats.chi2.ppf(0.95, 2) = 5.991.
-    assert.ok(Math.abs(ellipseRadius2(0.95, Infinity) - ref.chi2) < 1e-12);
+    assert.ok(
+      Math.abs(ellipseRadius2(0.95, Infinity) - ref.chi2) < 1e-12,
+      'Math.abs(ellipseRadius2(0.95, Infinity) - ref.chi2) < 1e-12',
+    );
   });
 
   it('lnGamma() matches scipy.special.gammaln', () => {
@@ -128,11 +137,14 @@ describe('nullfit numerical helpers against numpy/scipy', () => {
   it('SIGMA_POINTS are the 5-point Gauss–Hermite rule of numpy.polynomial.hermite_e.hermegauss', () => {
     SIGMA_POINTS.forEach(({ z, w }, i) => {
       // Source: numpy.polynomial.hermite_e.hermegauss(5), weights normalised to 1 (Debian python3-numpy).
-      assert.ok(Math.abs(z - ref.hermite.x[i]) < 1e-12);
-      assert.ok(Math.abs(w - ref.hermite.w[i]) < 1e-12);
+      assert.ok(Math.abs(z - ref.hermite.x[i]) < 1e-12, 'Math.abs(z - ref.hermite.x[i]) < 1e-12');
+      assert.ok(Math.abs(w - ref.hermite.w[i]) < 1e-12, 'Math.abs(w - ref.hermite.w[i]) < 1e-12');
     });
     // A quadrature exact to degree 9: E[z⁴] = 3 for a unit normal.
-    assert.ok(Math.abs(SIGMA_POINTS.reduce((s, { z, w }) => s + w * z ** 4, 0) - 3) < 1e-12);
+    assert.ok(
+      Math.abs(SIGMA_POINTS.reduce((s, { z, w }) => s + w * z ** 4, 0) - 3) < 1e-12,
+      'Math.abs(SIGMA_POINTS.reduce((s, { z, w }) => s + w * z ** 4, 0) - 3) < 1e-12',
+    );
   });
 
   it('symEigen() matches numpy.linalg.eigh', () => {
@@ -158,7 +170,7 @@ describe('nullfit linear algebra', () => {
     const l = cholesky(SYM)!;
     const x = choleskySolve(l, [1, 2, 3, 4]);
     const back = SYM.map((row) => row.reduce((s, v, j) => s + v * x[j], 0));
-    back.forEach((v, i) => assert.ok(Math.abs(v - [1, 2, 3, 4][i]) < 1e-12));
+    back.forEach((v, i) => assert.ok(Math.abs(v - [1, 2, 3, 4][i]) < 1e-12, `row ${i}: ${v}`));
     assert.equal(
       cholesky([
         [1, 2],
@@ -177,7 +189,10 @@ describe('nullfit linear algebra', () => {
       2,
     );
     assert.deepEqual(undetermined, [false, false]);
-    assert.ok(Math.abs(cov[0][0] - 0.5) < 1e-12 && Math.abs(cov[1][1] - 8) < 1e-12);
+    assert.ok(
+      Math.abs(cov[0][0] - 0.5) < 1e-12 && Math.abs(cov[1][1] - 8) < 1e-12,
+      'Math.abs(cov[0][0] - 0.5) < 1e-12 && Math.abs(cov[1][1] - 8) < 1e-12',
+    );
     // Two parameters that only ever appear as their sum: the difference is not determined.
     const open = covariance(
       [
@@ -200,7 +215,7 @@ describe('levenbergMarquardt()', () => {
     });
     const r = levenbergMarquardt(fn, [0, 0, 0], { loss: 'linear', fScale: 1 });
     const beta = linearLeastSquares(X, Y)!;
-    assert.ok(r.converged);
+    assert.ok(r.converged, 'r.converged');
     r.params.forEach((v, i) => assert.ok(Math.abs(v - beta[i]) < 1e-9, `p${i}`));
   });
 
