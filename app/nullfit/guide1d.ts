@@ -1,0 +1,184 @@
+// Runs anywhere (app/ is runtime-free). Guided alignment of one trimmer: the next position to try.
+
+import { isBenchError } from '../errors';
+import { fitNull1D, type NullFit1D, type Reading1D } from './fit1d';
+import { db, dbm, fixed, roundTo } from './format';
+import {
+  DEFAULT_GUIDE_UDB,
+  SIGMA_POINTS,
+  SURVEY_FRACTIONS,
+  checkRange,
+  clamp,
+  designGain,
+  lowestLevel,
+  uncertaintyLossDb,
+  type GuideOptions,
+  type TrialMode,
+} from './guide';
+import { checkNumber, dbmToMw } from './readings';
+
+export interface Guide1DOptions extends GuideOptions {
+  /** Smallest settable step of the trimmer, position units > 0; default 1/1000 of the range. */
+  resolution?: number;
+}
+
+export interface Trial1D {
+  /** Next position to set, in the position unit (rounded to the resolution). */
+  position: number;
+  /** Predicted reading there, dBm; null while surveying. */
+  predictedDbm: number | null;
+  /** Prediction band there, [low, high] dBm; null while surveying. */
+  band: [number, number] | null;
+  /** Predicted improvement over the best reading so far, dB (negative for a probe on the flank); null while surveying. */
+  expectedGainDb: number | null;
+  /** True when the predicted gain is below the reading uncertainty: set `position` and keep it. */
+  stop: boolean;
+  mode: TrialMode;
+  /** One sentence for the bench: what to do and why. */
+  reason: string;
+  /** The fit the suggestion rests on; null while surveying. */
+  fit: NullFit1D | null;
+}
+
+/**
+ * The next trial position for one trimmer.
+ * @param readings all readings so far (any order)
+ * @param bounds the trimmer's travel, [min, max] in its unit
+ */
+export function nextTrial1D(
+  readings: readonly Reading1D[],
+  bounds: [number, number],
+  opts: Guide1DOptions = {},
+): Trial1D {
+  const [lo, hi] = checkRange(bounds, 'bounds');
+  const span = hi - lo;
+  const resolution = opts.resolution ?? span / 1000;
+  checkNumber(resolution, 'opts.resolution');
+  const uDb = opts.uDb ?? DEFAULT_GUIDE_UDB;
+  const positions = readings.map((r, i) => checkNumber(r?.position, `readings[${i}].position`));
+
+  let fit: NullFit1D | null = null;
+  try {
+    fit = fitNull1D(readings, { ...opts, uDb });
+  } catch (e) {
+    if (!isBenchError(e) || e.field !== 'readings') throw e;
+  }
+  if (!fit) return survey(positions, lo, span, resolution, readings.length);
+
+  const round = (x: number): number => roundTo(clamp(x, lo, hi), resolution);
+  const x0 = fit.x0;
+  const cov = fit.design.covariance;
+  const s2 = fit.sigmaDb ** 2;
+  // An unresolved c² counts at its upper bound: a reading at the null is then what resolves it.
+  const floorMw = dbmToMw(fit.cDbm) + (fit.floorDbm === null ? 0 : dbmToMw(fit.floorDbm));
+  const q = [[fit.a * fit.a]];
+  const lossDb = uncertaintyLossDb(q, [[cov[0][0]]], floorMw);
+  const bestSeen = lowestLevel(readings);
+  const target = round(x0);
+  const outside = x0 < lo || x0 > hi;
+  const gainAtTarget = bestSeen - fit.predict(target);
+  const at = (position: number, mode: TrialMode, stop: boolean, reason: string): Trial1D => {
+    const predictedDbm = fit.predict(position);
+    return {
+      position,
+      predictedDbm,
+      band: fit.band(position),
+      expectedGainDb: bestSeen - predictedDbm,
+      stop,
+      mode,
+      reason,
+      fit,
+    };
+  };
+  const where = fixed(target, resolution);
+
+  if (outside && (fit.ci[0] > hi || fit.ci[1] < lo)) {
+    // The null lies beyond the end stop: the end is the best there is.
+    const tried = positions.some((x) => Math.abs(x - target) <= resolution / 2);
+    const beyond = `the fitted null (${fixed(x0, resolution)}) lies beyond the end of travel`;
+    return tried
+      ? at(target, 'done', true, `stop: ${beyond}; leave the trimmer at the end stop ${where}`)
+      : at(target, 'confirm', false, `set ${where}: ${beyond}, so the end stop is as deep as it goes`);
+  }
+  if (lossDb < uDb) {
+    if (gainAtTarget < uDb) {
+      return at(
+        target,
+        'done',
+        true,
+        `stop: the best reading (${dbm(bestSeen)}) is within ${db(uDb)} of the predicted null (${dbm(fit.predict(target))}); leave the trimmer at ${where}`,
+      );
+    }
+    return at(
+      target,
+      'confirm',
+      false,
+      `set ${where}: the fitted null, predicted ${db(gainAtTarget)} deeper than the best reading so far`,
+    );
+  }
+
+  // Probe where one more reading pins the null down best: near the null, where the V turns into the floor.
+  const knee = Math.sqrt(floorMw) / Math.max(fit.a, 1e-300);
+  const sd = Math.sqrt(cov[0][0]);
+  const candidates = new Set<number>();
+  for (let i = 0; i <= 200; i++) candidates.add(round(lo + (span * i) / 200));
+  for (const m of [0, 0.25, 0.5, 1, 2, 4]) {
+    candidates.add(round(x0 + m * knee));
+    candidates.add(round(x0 - m * knee));
+  }
+  for (const m of [0.25, 0.5, 1, 1.5, 2, 3]) {
+    candidates.add(round(x0 + m * sd));
+    candidates.add(round(x0 - m * sd));
+  }
+  let bestX = target;
+  let bestScore = -Infinity;
+  for (const x of candidates) {
+    // The model depends on x − x0 only, so a null shifted by δ is the fitted one seen from x − δ.
+    let score = 0;
+    for (const { z, w } of SIGMA_POINTS) score += w * designGain(cov, fit.gradient(x - z * sd), s2, q);
+    if (score > bestScore) {
+      bestScore = score;
+      bestX = x;
+    }
+  }
+  return at(
+    bestX,
+    'probe',
+    false,
+    `probe ${fixed(bestX, resolution)}: the null (${where} ± ${fixed(sd, resolution)}) is not yet known well enough (it would cost ${db(lossDb)} of depth); a reading here narrows it most`,
+  );
+}
+
+function survey(positions: number[], lo: number, span: number, resolution: number, n: number): Trial1D {
+  const far = (x: number): number => Math.min(Infinity, ...positions.map((p) => Math.abs(p - x)));
+  let position = NaN;
+  for (const f of SURVEY_FRACTIONS) {
+    const x = lo + f * span;
+    if (far(x) >= span / 12) {
+      position = x;
+      break;
+    }
+  }
+  if (Number.isNaN(position)) {
+    // Every survey point is taken: go to the middle of the widest gap.
+    let best = -1;
+    for (let i = 0; i <= 400; i++) {
+      const x = lo + (span * i) / 400;
+      if (far(x) > best) {
+        best = far(x);
+        position = x;
+      }
+    }
+  }
+  position = roundTo(position, resolution);
+  return {
+    position,
+    predictedDbm: null,
+    band: null,
+    expectedGainDb: null,
+    stop: false,
+    mode: 'survey',
+    reason: `survey ${fixed(position, resolution)}: ${n} usable reading(s) so far; the fit needs at least 3 across the range, 2 of them above the floor`,
+    fit: null,
+  };
+}

@@ -1,0 +1,188 @@
+// Guided alignment: the next trial setting, on synthetic benches (invented for the test) that answer
+// each trial with the model plus noise, the way a user at the bench would follow the suggestions.
+import { describe, it } from 'node:test';
+import assert from 'node:assert/strict';
+import { nextTrial1D } from '../../app/nullfit/guide1d';
+import { nextTrial2D } from '../../app/nullfit/guide2d';
+import type { Reading1D } from '../../app/nullfit/fit1d';
+import type { Reading2D } from '../../app/nullfit/fit2d';
+import { BenchError } from '../../app/errors';
+import { polar, reading1D, reading2D, rng, type Bench1D, type Bench2D } from './nullfit-helpers';
+
+const median = (xs: number[]): number => xs.slice().sort((a, b) => a - b)[Math.floor(xs.length / 2)];
+
+/** Follow the guide on a bench until it says stop; count readings until one is within 1 dB of the deepest. */
+function run1D(
+  bench: Bench1D,
+  seed: number,
+  maxReadings = 30,
+): { toNull: number; toStop: number; readings: Reading1D[] } {
+  const g = rng(seed);
+  const readings: Reading1D[] = [];
+  const deepest = reading1D(bench, bench.x0);
+  let toNull = Infinity;
+  for (let k = 0; k < maxReadings; k++) {
+    const t = nextTrial1D(readings, [0, 10], {
+      floorDbm: bench.floorDbm ?? undefined,
+      uDb: 0.3,
+      resolution: 0.0005,
+    });
+    if (t.stop) return { toNull, toStop: k, readings };
+    readings.push({ position: t.position, dbm: reading1D(bench, t.position) + 0.2 * g.gauss() });
+    if (toNull === Infinity && reading1D(bench, t.position) < deepest + 1) toNull = k + 1;
+  }
+  return { toNull, toStop: Infinity, readings };
+}
+
+function randomBench1D(seed: number): Bench1D {
+  const g = rng(seed);
+  // Ends of a 10-turn trimmer at about −20 dBm, leakage −85 to −65 dBm, receiver floor −95 dBm.
+  return {
+    a: Math.sqrt((1e-2 / 25) * (0.3 + g.uniform())),
+    x0: 1 + 8 * g.uniform(),
+    cDbm: -85 + 20 * g.uniform(),
+    floorDbm: -95,
+  };
+}
+
+describe('nextTrial1D()', () => {
+  it('surveys across the travel before a fit is possible, never twice at the same place', () => {
+    const t0 = nextTrial1D([], [0, 10]);
+    assert.equal(t0.mode, 'survey');
+    assert.equal(t0.position, 5);
+    assert.equal(t0.predictedDbm, null);
+    assert.equal(t0.stop, false);
+    const t1 = nextTrial1D([{ position: 5, dbm: -40 }], [0, 10]);
+    const t2 = nextTrial1D(
+      [
+        { position: 5, dbm: -40 },
+        { position: t1.position, dbm: -30 },
+      ],
+      [0, 10],
+    );
+    assert.notEqual(t1.position, 5);
+    assert.ok(![5, t1.position].includes(t2.position), `third survey point ${t2.position}`);
+    assert.match(t2.reason, /^survey /);
+  });
+
+  it('reaches within 1 dB of the deepest null in few readings, and stops soon after (20 benches)', () => {
+    const runs = Array.from({ length: 20 }, (_, i) => run1D(randomBench1D(1000 + i), 1000 + i));
+    const toNull = runs.map((r) => r.toNull);
+    const toStop = runs.map((r) => r.toStop);
+    assert.ok(median(toNull) <= 8, `median ${median(toNull)} readings to the null: ${toNull.join(' ')}`);
+    assert.ok(Math.max(...toNull) <= 12, `worst ${Math.max(...toNull)}: ${toNull.join(' ')}`);
+    assert.ok(Math.max(...toStop) <= 15, `stopped after ${toStop.join(' ')} readings`);
+  });
+
+  it('when it stops, the suggested position is the null and the best reading is within the stated uncertainty of it', () => {
+    const bench = randomBench1D(7);
+    const { readings } = run1D(bench, 7);
+    const t = nextTrial1D(readings, [0, 10], { floorDbm: -95, uDb: 0.3, resolution: 0.0005 });
+    assert.equal(t.stop, true);
+    assert.equal(t.mode, 'done');
+    assert.ok(
+      reading1D(bench, t.position) < reading1D(bench, bench.x0) + 1,
+      `stopped at ${t.position}, null at ${bench.x0}`,
+    );
+    assert.ok(t.expectedGainDb! < 0.3, `expected gain ${t.expectedGainDb}`);
+    assert.match(
+      t.reason,
+      /^stop: the best reading \(−\d+\.\d dBm\) is within 0\.3 dB of the predicted null/,
+    );
+    const [lo, hi] = t.band!;
+    assert.ok(lo < t.predictedDbm! && t.predictedDbm! < hi, 'prediction inside its band');
+  });
+
+  it('finds the end stop when the null lies beyond the travel', () => {
+    // Balance would need −1.5 turns: the best the trimmer can do is its end at 0.
+    const bench: Bench1D = { a: 0.02, x0: -1.5, cDbm: -80, floorDbm: -95 };
+    const g = rng(3);
+    const readings: Reading1D[] = [];
+    let t = nextTrial1D(readings, [0, 10], { floorDbm: -95 });
+    for (let k = 0; k < 15 && !t.stop; k++) {
+      readings.push({ position: t.position, dbm: reading1D(bench, t.position) + 0.2 * g.gauss() });
+      t = nextTrial1D(readings, [0, 10], { floorDbm: -95 });
+    }
+    assert.equal(t.stop, true, `did not stop: ${t.reason}`);
+    assert.equal(t.position, 0);
+    assert.match(t.reason, /beyond the end of travel/);
+  });
+
+  it('refuses bad bounds and bad readings, naming them', () => {
+    assert.throws(
+      () => nextTrial1D([], [10, 0]),
+      (e: unknown) => e instanceof BenchError && e.field === 'bounds',
+    );
+    assert.throws(
+      () => nextTrial1D([{ position: Number.NaN, dbm: -40 }], [0, 10]),
+      (e: unknown) => e instanceof BenchError && e.field === 'readings[0].position',
+    );
+  });
+});
+
+function randomBench2D(seed: number): Bench2D {
+  const g = rng(seed);
+  // A in turns (0–10), B in degrees (0–300); directions 20–160° apart.
+  return {
+    a0: 1 + 8 * g.uniform(),
+    b0: 30 + 240 * g.uniform(),
+    gA: polar(0.02 * (0.5 + g.uniform()), 0),
+    gB: polar(0.0006 * (0.5 + g.uniform()), 20 + 140 * g.uniform()),
+    cDbm: -85 + 20 * g.uniform(),
+    floorDbm: -95,
+  };
+}
+
+function run2D(bench: Bench2D, seed: number, maxReadings = 40): { toNull: number; toStop: number } {
+  const g = rng(seed);
+  const readings: Reading2D[] = [];
+  const deepest = reading2D(bench, bench.a0, bench.b0);
+  let toNull = Infinity;
+  for (let k = 0; k < maxReadings; k++) {
+    const t = nextTrial2D(
+      readings,
+      { a: [0, 10], b: [0, 300] },
+      { floorDbm: -95, uDb: 0.3, resolution: { a: 0.0005, b: 0.01 } },
+    );
+    if (t.stop) return { toNull, toStop: k };
+    readings.push({ a: t.a, b: t.b, dbm: reading2D(bench, t.a, t.b) + 0.2 * g.gauss() });
+    if (toNull === Infinity && reading2D(bench, t.a, t.b) < deepest + 1) toNull = k + 1;
+  }
+  return { toNull, toStop: Infinity };
+}
+
+describe('nextTrial2D()', () => {
+  it('surveys a pattern over both trimmers before a fit is possible', () => {
+    const seen = new Set<string>();
+    const readings: Reading2D[] = [];
+    for (let k = 0; k < 6; k++) {
+      const t = nextTrial2D(readings, { a: [0, 10], b: [0, 300] });
+      assert.equal(t.mode, 'survey');
+      seen.add(`${t.a},${t.b}`);
+      readings.push({ a: t.a, b: t.b, dbm: -30 - k });
+    }
+    assert.equal(seen.size, 6, 'six different settings');
+    assert.ok(
+      new Set(readings.map((r) => r.a)).size >= 3 && new Set(readings.map((r) => r.b)).size >= 3,
+      'both trimmers moved',
+    );
+  });
+
+  it('reaches within 1 dB of the deepest null in few readings with directions not at right angles (12 benches)', () => {
+    const runs = Array.from({ length: 12 }, (_, i) => run2D(randomBench2D(2000 + i), 2000 + i));
+    const toNull = runs.map((r) => r.toNull);
+    assert.ok(median(toNull) <= 15, `median ${median(toNull)} readings to the null: ${toNull.join(' ')}`);
+    assert.ok(Math.max(...toNull) <= 22, `worst: ${toNull.join(' ')}`);
+    assert.ok(
+      runs.every((r) => Number.isFinite(r.toStop)),
+      `stops: ${runs.map((r) => r.toStop).join(' ')}`,
+    );
+  });
+
+  it('refuses bad bounds', () => {
+    assert.throws(
+      () => nextTrial2D([], { a: [0, 10], b: [5, 5] }),
+      (e: unknown) => e instanceof BenchError && e.field === 'bounds.b',
+    );
+  });
+});
