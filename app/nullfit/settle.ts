@@ -35,7 +35,6 @@ export class SettleDetector {
   readonly toleranceDb: number;
   readonly timeoutMs: number;
   private window: number[] = [];
-  private readonly trendDb: number;
   private startMs: number | null = null;
   private lastMs = -Infinity;
 

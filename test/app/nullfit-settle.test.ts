@@ -1,0 +1,76 @@
+// Settle detection before a reading is kept: a rolling window within a tolerance, or a flagged timeout.
+import { describe, it } from 'node:test';
+import assert from 'node:assert/strict';
+import { SettleDetector } from '../../app/nullfit/settle';
+import { BenchError } from '../../app/errors';
+
+describe('SettleDetector', () => {
+  it('is not settled until the window is full, then settled when every reading is within the tolerance', () => {
+    const d = new SettleDetector({ windowCount: 3, toleranceDb: 0.5, timeoutMs: 5000 });
+    assert.equal(d.push(-60.0, 0).settled, false);
+    assert.equal(d.push(-60.2, 100).settled, false);
+    const s = d.push(-59.9, 200);
+    assert.equal(s.settled, true);
+    assert.equal(s.timedOut, false);
+    assert.equal(s.count, 3);
+    assert.ok(Math.abs(s.spreadDb - 0.3) < 1e-9, `spread ${s.spreadDb}`);
+    // Power mean of −60.0, −60.2, −59.9 dBm (computed: 10·log10 of the mean of 10^(x/10)) = −60.0315 dBm.
+    assert.ok(Math.abs(s.meanDbm - -60.0315) < 1e-4, `mean ${s.meanDbm}`);
+  });
+
+  it('waits while the level is still moving after a trimmer turn, and settles once it stops', () => {
+    const d = new SettleDetector({ windowCount: 4, toleranceDb: 0.25, timeoutMs: 10_000 });
+    // An exponential approach to −72 dBm, as a meter's averaging would show it.
+    const states = Array.from({ length: 20 }, (_, k) => d.push(-72 + 15 * Math.exp(-k / 2), k * 200));
+    const first = states.findIndex((s) => s.settled);
+    assert.ok(first >= 8 && first <= 14, `settled at reading ${first}`);
+    assert.ok(states.slice(0, first).every((s) => !s.settled && !s.timedOut));
+    assert.ok(Math.abs(states[first].meanDbm - -72) < 0.5, `settled at ${states[first].meanDbm} dBm`);
+  });
+
+  it('flags a timeout when the level never settles, and keeps reporting the window', () => {
+    const d = new SettleDetector({ windowCount: 3, toleranceDb: 0.1, timeoutMs: 1000 });
+    let s = d.push(-50, 0);
+    for (let t = 100; t <= 900; t += 100) s = d.push(t % 200 === 0 ? -50 : -51, t);
+    assert.equal(s.timedOut, false, 'not yet at 900 ms');
+    s = d.push(-50, 1000);
+    assert.equal(s.settled, false);
+    assert.equal(s.timedOut, true);
+    assert.ok(Math.abs(s.spreadDb - 1) < 1e-9, `spread ${s.spreadDb}`);
+  });
+
+  it('starts a new wait after reset()', () => {
+    const d = new SettleDetector({ windowCount: 2, toleranceDb: 1, timeoutMs: 500 });
+    d.push(-40, 0);
+    assert.equal(d.push(-40.5, 600).timedOut, false, 'settled, so not timed out');
+    d.reset();
+    const s = d.push(-70, 50);
+    assert.equal(s.count, 1);
+    assert.equal(s.settled, false);
+    assert.equal(s.timedOut, false, 'the clock restarts at the first reading after reset');
+  });
+
+  it('refuses bad settings, a non-finite level and time going backwards, naming them', () => {
+    const bad = (o: object, field: string): void =>
+      assert.throws(
+        () => new SettleDetector(o as never),
+        (e: unknown) => e instanceof BenchError && e.code === 'EINVAL' && e.field === field,
+        field,
+      );
+    bad({ windowCount: 1, toleranceDb: 1, timeoutMs: 1 }, 'SettleDetector.windowCount');
+    bad({ windowCount: 2.5, toleranceDb: 1, timeoutMs: 1 }, 'SettleDetector.windowCount');
+    bad({ windowCount: 3, toleranceDb: 0, timeoutMs: 1 }, 'SettleDetector.toleranceDb');
+    bad({ windowCount: 3, toleranceDb: 1, timeoutMs: Number.NaN }, 'SettleDetector.timeoutMs');
+    const d = new SettleDetector({ windowCount: 3, toleranceDb: 1, timeoutMs: 100 });
+    assert.throws(
+      () => d.push(Number.NaN, 0),
+      (e: unknown) => e instanceof BenchError && e.field === 'SettleDetector.push(dbm)',
+    );
+    d.push(-50, 10);
+    assert.throws(
+      () => d.push(-50, 5),
+      (e: unknown) => e instanceof BenchError && /went back in time/.test(e.message),
+    );
+    assert.match(String(d), /3 readings within ±1 dB, timeout 100 ms/);
+  });
+});
