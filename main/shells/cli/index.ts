@@ -1,12 +1,20 @@
 // Runs in Node. The command-line shell: one explicit list of commands, one line each.
 import type { Command, Io } from './command';
 import { demoCommand } from './demo';
+import { fitCommand } from './fit';
 import { logCommand } from './log';
 import { measureCommand } from './measure';
 import { readCommand } from './read';
 import { serveCommand } from './serve';
 
-export const COMMANDS: Command[] = [readCommand, serveCommand, demoCommand, measureCommand, logCommand];
+export const COMMANDS: Command[] = [
+  readCommand,
+  serveCommand,
+  demoCommand,
+  measureCommand,
+  logCommand,
+  fitCommand,
+];
 
 export function usage(): string {
   const w = Math.max(...COMMANDS.map((c) => c.name.length));
