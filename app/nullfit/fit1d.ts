@@ -56,7 +56,11 @@ export interface NullFit1D {
   x0: number;
   /** Power of the carrier the trimmer cannot cancel, c², dBm (an upper bound when cIsUpperBound). */
   cDbm: number;
-  /** True when the data only bound c² from above (it sinks below the measurement floor or was never reached). */
+  /**
+   * True when the data only bound c² from above (it sinks below the measurement floor, or no reading came
+   * close enough to the null): the profile likelihood cannot rule out a c² 60 dB lower. cDbm is then the
+   * one-sided profile bound at `level`.
+   */
   cIsUpperBound: boolean;
   /** The measurement floor the fit assumed, dBm, or null. */
   floorDbm: number | null;
@@ -64,7 +68,7 @@ export interface NullFit1D {
   bestPosition: number;
   /** Predicted carrier power at bestPosition (the floor the trimmer cannot cancel), dBm. */
   bestDbm: number;
-  /** Predicted receiver reading at bestPosition: carrier plus measurement floor, dBm. */
+  /** Predicted receiver reading at bestPosition: carrier plus measurement floor, dBm (a bound when cIsUpperBound). */
   bestReadingDbm: number;
   /** Confidence interval on bestPosition at `level` (±Infinity when the data leave it open). */
   ci: [number, number];

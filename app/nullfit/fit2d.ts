@@ -65,10 +65,11 @@ export interface NullFit2D {
   bestB: number;
   /** Predicted carrier power at the best setting (the floor no setting cancels), dBm. */
   bestDbm: number;
-  /** Predicted receiver reading at the best setting (carrier plus measurement floor), dBm. */
+  /** Predicted receiver reading at the best setting (carrier plus measurement floor), dBm (a bound when cIsUpperBound). */
   bestReadingDbm: number;
   /** Power of the incoherent carrier, c², dBm (an upper bound when cIsUpperBound). */
   cDbm: number;
+  /** True when the data only bound c² from above (see NullFit1D.cIsUpperBound). */
   cIsUpperBound: boolean;
   floorDbm: number | null;
   /** Carrier phasor per unit of A (real, ≥ 0) and per unit of B, √mW per unit. */

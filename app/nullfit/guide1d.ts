@@ -1,6 +1,6 @@
 // Runs anywhere (app/ is runtime-free). Guided alignment of one trimmer: the next position to try.
 
-import { isBenchError } from '../errors';
+import { check, isBenchError } from '../errors';
 import { fitNull1D, type NullFit1D, type Reading1D } from './fit1d';
 import { db, dbm, fixed, roundTo } from './format';
 import {
@@ -53,7 +53,11 @@ export function nextTrial1D(
   const [lo, hi] = checkRange(bounds, 'bounds');
   const span = hi - lo;
   const resolution = opts.resolution ?? span / 1000;
-  checkNumber(resolution, 'opts.resolution');
+  check(
+    typeof resolution === 'number' && resolution > 0 && resolution <= span,
+    'opts.resolution',
+    `must be a step above 0 and at most the travel (${span}), got ${String(resolution)}`,
+  );
   const uDb = opts.uDb ?? DEFAULT_GUIDE_UDB;
   const positions = readings.map((r, i) => checkNumber(r?.position, `readings[${i}].position`));
 

@@ -67,9 +67,17 @@ export function nextTrial2D(
   const [aLo, aHi] = checkRange(bounds.a, 'bounds.a');
   const [bLo, bHi] = checkRange(bounds.b, 'bounds.b');
   const res = {
-    a: checkNumber(opts.resolution?.a ?? (aHi - aLo) / 1000, 'opts.resolution.a'),
-    b: checkNumber(opts.resolution?.b ?? (bHi - bLo) / 1000, 'opts.resolution.b'),
+    a: opts.resolution?.a ?? (aHi - aLo) / 1000,
+    b: opts.resolution?.b ?? (bHi - bLo) / 1000,
   };
+  for (const k of ['a', 'b'] as const) {
+    const span = k === 'a' ? aHi - aLo : bHi - bLo;
+    check(
+      typeof res[k] === 'number' && res[k] > 0 && res[k] <= span,
+      `opts.resolution.${k}`,
+      `must be a step above 0 and at most the travel (${span}), got ${String(res[k])}`,
+    );
+  }
   const uDb = opts.uDb ?? DEFAULT_GUIDE_UDB;
   const pts = readings.map((r, i) => ({
     a: checkNumber(r?.a, `readings[${i}].a`),
