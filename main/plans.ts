@@ -202,6 +202,13 @@ export class PlanDesk {
     return this.get(id);
   }
 
+  /** Resolves when the run stops (done, cancelled or failed), with its final view. */
+  async wait(id: string): Promise<PlanView> {
+    const r = this.runners.get(id);
+    if (r) await r.done;
+    return this.get(id);
+  }
+
   /** Cancels any running plan and waits for it to stop (before its session closes). */
   async stopAll(): Promise<void> {
     const all = [...this.runners.values()];

@@ -120,12 +120,12 @@ export class LinkedSource implements LevelSource {
   private async failed(e: unknown): Promise<BenchError> {
     const err = asBenchError(e);
     if (err.code === 'ETIMEOUT' || err.code === 'EPROTO') {
-      this.softRun++;
-      if (this.softRun < this.softLimit) return err;
-      await this.goDown(`${this.softRun} failed exchanges in a row (last: ${err.message})`);
+      const run = ++this.softRun;
+      if (run < this.softLimit) return err;
+      await this.goDown(`${run} failed exchanges in a row (last: ${err.message})`);
       return new BenchError(
         'EIO',
-        `${err.message}; ${this.softRun} failed exchanges in a row, reconnecting to ${this.spec}`,
+        `${err.message}; ${run} failed exchanges in a row, reconnecting to ${this.spec}`,
       );
     }
     if (err.code === 'EIO') {

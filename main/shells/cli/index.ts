@@ -4,8 +4,11 @@ import { demoCommand } from './demo';
 import { fitCommand } from './fit';
 import { logCommand } from './log';
 import { measureCommand } from './measure';
+import { planCommand } from './plan';
 import { readCommand } from './read';
+import { receiversCommand } from './receivers';
 import { serveCommand } from './serve';
+import { templatesCommand } from './templates';
 
 export const COMMANDS: Command[] = [
   readCommand,
@@ -14,6 +17,9 @@ export const COMMANDS: Command[] = [
   measureCommand,
   logCommand,
   fitCommand,
+  planCommand,
+  receiversCommand,
+  templatesCommand,
 ];
 
 export function usage(): string {

@@ -1,31 +1,57 @@
 // Runs in Node. `nullbench read`: take N readings from a source and print them corrected, one JSON per line.
+// Real receivers: a link fault is reported on stderr as a gap, the link is re-established, and reading goes on
+// until N readings have come or the fault has lasted --retry-for seconds.
 import { BenchError } from '../../../app/errors';
 import { parsePathSpec } from '../../../app/path';
 import { roleFrequencyHz } from '../../../app/api';
+import type { CalibrationQuantity } from '../../../app/calibration';
+import { calibrationFor } from '../../../app/receiver';
+import { builtinTemplate, type SerialTemplate } from '../../../app/serialtemplate';
 import { Corrector } from '../../bench/correct';
-import { createSource, SOURCES } from '../../sources';
+import { defaultDbPath } from '../../paths';
+import { templateNameInSpec } from '../../receivers';
+import { createSource, findDriver, SOURCES } from '../../sources';
+import { ReceiverRepo } from '../../store/receivers';
+import { Store } from '../../store/store';
 import { numberOption, parseOptions, reportError, type Command } from './command';
+
+/** Errors a real link recovers from: report the gap and go on. */
+const SOFT = new Set(['ETIMEOUT', 'EPROTO', 'EIO']);
 
 export const readCommand: Command = {
   name: 'read',
   summary: 'read levels from a receiver (or the simulated bench) and print them corrected',
-  usage: `nullbench read --source SPEC [--count N] [--freq-hz F] [--path ELEMENTS] [--json]
+  usage: `nullbench read [--source SPEC [--template NAME] | --receiver NAME] [--count N] [--freq-hz F]
+                  [--path ELEMENTS] [--json] [--db FILE] [--retry-for S]
 
 Options:
-  --source SPEC     where to read: ${SOURCES.map((s) => s.syntax).join(' | ')} (default sim)
+  --source SPEC     where to read (default sim):
+                      ${SOURCES.map((s) => s.syntax).join('\n                      ')}
+  --template NAME   serial command-set template (built in, or stored: see "nullbench templates list")
+  --receiver NAME   a stored receiver profile: its source, template and calibration
   --count N         number of readings (default 10, at most 100000)
-  --freq-hz F       tune the receiver to F Hz first (default: the source's carrier, 7.1 MHz on the simulated bench)
+  --freq-hz F       tune the receiver to F Hz first. Default: the simulated bench's carrier (7.1 MHz); a
+                    network receiver stays where it is; a serial receiver needs it (it cannot tell its frequency)
   --path ELEMENTS   signal path from the transmitter to the receiver, e.g. pad:20,cable:0.4,coupler:30
-  --json            one JSON object per line: raw, dbm_rx, dbm_dut, u_db, freq_hz, t
-Without a stored receiver profile the IARU Region 1 R.1 S-meter calibration applies (S9 = -73 dBm below 30 MHz).`,
+  --json            one JSON object per line: raw, quantity, dbm_rx, dbm_dut, u_db, freq_hz, t
+  --db FILE         database holding stored profiles and templates (default: ${defaultDbPath()})
+  --retry-for S     after a link fault keep reconnecting this long before giving up (default 30 s)
+Without a stored receiver calibration the IARU Region 1 R.1 S-meter calibration applies (S9 = -73 dBm below
+30 MHz, 6 dB per S-unit); a receiver reporting raw counts needs a calibrated profile (--receiver).
+A link fault is reported on stderr ("gap: ...") and never printed as a reading.`,
   async run(argv, io) {
+    let store: Store | null = null;
     try {
       const { values } = parseOptions(argv, {
-        source: { type: 'string', default: 'sim' },
+        source: { type: 'string' },
+        template: { type: 'string' },
+        receiver: { type: 'string' },
         count: { type: 'string' },
         'freq-hz': { type: 'string' },
         path: { type: 'string', default: '' },
         json: { type: 'boolean', default: false },
+        db: { type: 'string' },
+        'retry-for': { type: 'string' },
         help: { type: 'boolean', short: 'h', default: false },
       });
       if (values.help) {
@@ -39,22 +65,88 @@ Without a stored receiver profile the IARU Region 1 R.1 S-meter calibration appl
           `must be a whole number from 1 to 100000, got ${values.count}`,
           '--count',
         );
+      const retryForS = numberOption(values['retry-for'], 'retry-for', 30);
+      if (!(retryForS >= 0 && retryForS <= 86400))
+        throw new BenchError('EINVAL', `must be 0..86400 s, got ${values['retry-for']}`, '--retry-for');
       const path = parsePathSpec(values.path ?? '');
-      const source = createSource(values.source ?? 'sim');
-      const freq =
-        values['freq-hz'] !== undefined
-          ? numberOption(values['freq-hz'], 'freq-hz')
-          : roleFrequencyHz('carrier', 7_100_000, 1000);
-      if (!(freq > 0)) throw new BenchError('EINVAL', `must be above 0 Hz, got ${freq}`, '--freq-hz');
-      const corrector = new Corrector({ calibration: null, path, noiseFloorDbm: source.noiseFloorDbm });
+      if (values.receiver && values.source)
+        throw new BenchError(
+          'EINVAL',
+          'give either --receiver (a stored profile) or --source, not both',
+          '--source',
+        );
+      const openStore = () => (store ??= new Store(values.db ?? defaultDbPath()));
+      let spec = values.source ?? 'sim';
+      let templateName = values.template ?? null;
+      let ownCalibration: unknown = null;
+      if (values.receiver) {
+        const rx = new ReceiverRepo(openStore()).findReceiver(values.receiver);
+        spec = rx.source;
+        templateName = templateName ?? rx.template;
+        ownCalibration = rx.calibration;
+      }
+      const driver = findDriver(spec);
+      templateName = templateName ?? templateNameInSpec(spec);
+      let template: SerialTemplate | null = null;
+      if (templateName) {
+        if (driver.kind !== 'serial')
+          throw new BenchError('EINVAL', 'only serial sources take a command-set template', '--template');
+        template = builtinTemplate(templateName) ?? new ReceiverRepo(openStore()).template(templateName);
+      }
+      const source = createSource(spec, template ? { template } : {});
+      let freq: number | null = null;
+      if (values['freq-hz'] !== undefined) {
+        freq = numberOption(values['freq-hz'], 'freq-hz');
+        if (!(freq > 0)) throw new BenchError('EINVAL', `must be above 0 Hz, got ${freq}`, '--freq-hz');
+      } else if (driver.kind === 'sim') freq = roleFrequencyHz('carrier', 7_100_000, 1000);
+      else if (driver.kind === 'serial')
+        throw new BenchError(
+          'EINVAL',
+          'a serial receiver cannot tell its frequency, which selects the calibration band: give --freq-hz',
+          '--freq-hz',
+        );
       await source.open();
       try {
-        if (source.caps.tune) await source.setFrequency(freq);
+        const quantity = (source.quantity ?? 'strength-db') as CalibrationQuantity;
+        const corrector = new Corrector({
+          calibration:
+            ownCalibration == null && quantity === 'strength-db'
+              ? null
+              : calibrationFor(ownCalibration, quantity),
+          path,
+          noiseFloorDbm: source.noiseFloorDbm,
+        });
+        if (freq !== null) await source.setFrequency(freq);
         if (!values.json)
           io.out('      time                raw    dBm at rx   dBm at DUT    ±u (dB)   freq (Hz)\n');
-        for (let i = 0; i < count; i++) {
-          const s = await source.read();
+        let got = 0;
+        let gapSince: number | null = null;
+        while (got < count) {
+          let s;
+          try {
+            s = await source.read();
+          } catch (e) {
+            if (!(e instanceof BenchError) || !SOFT.has(e.code)) throw e;
+            const now = Date.now();
+            if (gapSince === null) {
+              gapSince = now;
+              io.err(`gap: ${e.code}: ${e.message}\n`);
+            }
+            if (now - gapSince > retryForS * 1000)
+              throw new BenchError(
+                e.code,
+                `gave up after ${retryForS} s without a reading: ${e.message}`,
+                'source',
+              );
+            await new Promise((r) => setTimeout(r, 200));
+            continue;
+          }
+          if (gapSince !== null) {
+            io.err(`gap closed after ${((Date.now() - gapSince) / 1000).toFixed(1)} s; reading again\n`);
+            gapSince = null;
+          }
           const c = corrector.correct(s);
+          got++;
           if (values.json) {
             io.out(
               JSON.stringify({
@@ -83,6 +175,8 @@ Without a stored receiver profile the IARU Region 1 R.1 S-meter calibration appl
       return 0;
     } catch (e) {
       return reportError(e, io);
+    } finally {
+      (store as Store | null)?.close();
     }
   },
 };
