@@ -31,6 +31,8 @@ let excluded = new Uint8Array(4096);
  * @param power averaged spectrum in FFT order
  * @param averages number of spectra averaged into it (sets the median-to-mean factor)
  * @param scale factor from `power` to full-scale units
+ * @param maxBins take every k-th bin so that at most this many are used (neighbouring bins of a
+ *   windowed spectrum are correlated anyway); default all
  */
 export function floorBetween(
   power: Float64Array,
@@ -39,6 +41,7 @@ export function floorBetween(
   hi: number,
   zones: readonly Zone[],
   scale = 1,
+  maxBins = Infinity,
 ): FloorEstimate {
   const n = power.length;
   check(
@@ -62,11 +65,13 @@ export function floorBetween(
       if (at < len) excluded[at] = 1;
     }
   }
+  const step = Math.max(1, Math.ceil(len / maxBins));
   let m = 0;
   let k = ((lo % n) + n) % n;
-  for (let j = 0; j < len; j++) {
+  for (let j = 0; j < len; j += step) {
     if (!excluded[j]) values[m++] = power[k];
-    if (++k === n) k = 0;
+    k += step;
+    if (k >= n) k -= n;
   }
   if (m === 0) return { mean: FLOOR_MINIMUM, bins: 0 };
   const median =

@@ -103,6 +103,8 @@ export interface TwoToneMeasurement {
 const SSB_DOMINANCE_DB = 10;
 /** False-alarm probability for one component read as seen when only noise is there. */
 const FALSE_ALARM = 1e-3;
+/** The span's floor is a median over at most this many bins (evenly spread). */
+const SPAN_FLOOR_BINS = 2048;
 /** A bound this close to the value (dB) is reported as a value. */
 const NEGLIGIBLE_DB = 0.05;
 
@@ -184,7 +186,7 @@ export function measureSpectrum(spectrum: AveragedSpectrum, params: TwoToneParam
   const threshold = Math.max(10 ** (p.marginDb / 10), noiseExceedance(averages, FALSE_ALARM));
 
   // Local floor: the neighbourhood of a component, the components' main lobes and DC left out.
-  const wide = Math.min(2048, Math.max(32, Math.round(toneBins / 2)));
+  const wide = Math.min(256, Math.max(32, Math.round(toneBins / 2)));
   const zonesFor = (carrierBin: number, spacing: number): Zone[] => {
     const z: Zone[] = [{ center: 0, halfWidth: guard }];
     for (const o of Object.values(COMPONENT_ORDER))
@@ -273,7 +275,7 @@ export function measureSpectrum(spectrum: AveragedSpectrum, params: TwoToneParam
 
   const spanLo = Math.round(carrierBin - 5 * spacing) - wide;
   const spanHi = Math.round(carrierBin + 5 * spacing) + wide;
-  const floorMean = floorBetween(power, averages, spanLo, spanHi, zones, scale).mean;
+  const floorMean = floorBetween(power, averages, spanLo, spanHi, zones, scale, SPAN_FLOOR_BINS).mean;
   const enbwHz = (window.enbwBins * fs) / n;
 
   // 3. Ratios.
