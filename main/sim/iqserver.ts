@@ -9,6 +9,8 @@ import { dsbGenerator, quantizeU8, type IqGenerator, type IqTuning } from './dsb
 const TUNER_TYPE = 5;
 /** Number of gain steps reported in the greeting. */
 const GAIN_COUNT = 29;
+/** In real-time pacing, samples older than this are dropped rather than sent late, s. */
+const MAX_LAG_S = 0.5;
 
 export interface IqServerOptions {
   /** TCP port on 127.0.0.1; 0 (default) picks a free one. */
@@ -146,6 +148,10 @@ export class IqSimServer {
       for (;;) {
         if (this.opts.pace === 'realtime') {
           const due = ((performance.now() - t0) / 1000) * this.state.sampleRate;
+          // A client that fell behind loses samples, as with a real receiver whose buffer overflows;
+          // the signal itself keeps running in real time.
+          if (due - (sent - sentAtT0) > MAX_LAG_S * this.state.sampleRate)
+            sent = sentAtT0 + Math.floor(due) - n;
           if (sent - sentAtT0 + n > due) {
             const waitMs = ((sent - sentAtT0 + n - due) / this.state.sampleRate) * 1000;
             timer = setTimeout(pump, Math.max(1, waitMs));

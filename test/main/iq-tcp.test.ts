@@ -128,6 +128,33 @@ describe('IqTcpClient against the IQ simulator server', () => {
     await c.close();
   });
 
+  it('drops samples for a client that falls behind instead of sending them late', async () => {
+    const starts: number[] = [];
+    const own = await IqSimServer.start({
+      sampleRate: 2_400_000,
+      blockSamples: 16384,
+      generator: (out, start) => {
+        starts.push(start);
+        out.fill(0);
+      },
+    });
+    const c = await new IqTcpClient({ port: own.port, maxBufferedBytes: 1 << 20 }).connect();
+    await c.readBlock(1000);
+    await new Promise((r) => setTimeout(r, 2500)); // 6 million samples' worth, more than the socket buffers hold
+    for (let i = 0; i < 40; i++) await c.readBlock(65536);
+    await c.close();
+    await own.close();
+    const gaps = starts.slice(1).map((s, i) => s - starts[i]);
+    assert.ok(
+      gaps.some((g) => g > 16384),
+      'the server skipped ahead at least once',
+    );
+    assert.ok(
+      gaps.every((g) => g >= 16384),
+      'and never repeated samples',
+    );
+  });
+
   it('paces samples in real time by default', async () => {
     const own = await IqSimServer.start({ sampleRate: 100_000, blockSamples: 1000 });
     const c = await new IqTcpClient({ port: own.port }).connect();

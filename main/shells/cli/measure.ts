@@ -45,7 +45,9 @@ Options:
   --margin-db M      a component must stand M dB above the local noise floor to count (default 6)
   --json             print one JSON object (carrier_dbfs, upper_dbfs, lower_dbfs, suppression_db, floor_limited, ...)
 A component too close to the noise floor is reported as a bound (floor_limited): its level is "at most",
-the suppression "at least". Suppression is the mean power of the two sidebands over the carrier.`,
+the suppression "at least". Suppression is the mean power of the two sidebands over the carrier.
+Most SDRs show a spike at their centre frequency (DC offset): tune so the carrier sits off the centre and
+give its offset with --carrier-hz, or the spike reads as carrier.`,
 
   async run(argv, io) {
     try {
