@@ -5,9 +5,9 @@ import { join } from 'node:path';
 import { BenchError } from '../../app/errors';
 import { openRecording } from '../../main/sources/iq/open';
 import { openSigmf, readSigmfInfo } from '../../main/sources/iq/sigmf';
-import { runCli } from '../helpers/cli';
 import { f64from, python } from '../helpers/python';
 import { tempDir } from '../helpers/tmp';
+import { runMeasure } from '../helpers/measure';
 
 /**
  * numpy writes the dataset in the given SigMF datatype (quantising a test signal) and prints the
@@ -196,8 +196,7 @@ z = a * np.exp(2j*np.pi*(fc+800)*t) + a * np.exp(2j*np.pi*(fc-800)*t + 0.5j) + a
 z = z + np.sqrt(10 ** (-10.5) * 250000 / 2) * (rng.standard_normal(n) + 1j * rng.standard_normal(n))`,
     );
     writeMeta(join(t.dir, 'dsb.sigmf-meta'), meta('cu8'));
-    const r = await runCli([
-      'measure',
+    const r = await runMeasure([
       join(t.dir, 'dsb.sigmf-meta'),
       '--tone-hz',
       '800',
@@ -218,7 +217,7 @@ z = z + np.sqrt(10 ** (-10.5) * 250000 / 2) * (rng.standard_normal(n) + 1j * rng
   it('exits 2 naming the field for an unknown datatype', async () => {
     writeFileSync(join(t.dir, 'x.sigmf-data'), Buffer.alloc(64));
     writeMeta(join(t.dir, 'x.sigmf-meta'), meta('cq4'));
-    const r = await runCli(['measure', join(t.dir, 'x.sigmf-meta'), '--tone-hz', '1000']);
+    const r = await runMeasure([join(t.dir, 'x.sigmf-meta'), '--tone-hz', '1000']);
     assert.equal(r.code, 2);
     assert.match(r.err, /EINVAL.*global\.core:datatype: unknown datatype "cq4"/);
   });

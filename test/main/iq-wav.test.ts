@@ -6,9 +6,9 @@ import { join } from 'node:path';
 import { BenchError } from '../../app/errors';
 import { measureRecording } from '../../main/shells/cli/measure';
 import { openWav, readWavInfo } from '../../main/sources/iq/wav';
-import { runCli } from '../helpers/cli';
 import { f64from, python } from '../helpers/python';
 import { tempDir } from '../helpers/tmp';
+import { runMeasure } from '../helpers/measure';
 
 /** Runs Debian's sox (an outside WAV writer). */
 function sox(args: string[]): void {
@@ -240,7 +240,7 @@ x = np.empty(2 * n); x[0::2] = z.real; x[1::2] = z.imag`;
     const info = await readWavInfo(path);
     assert.equal(info.format.kind, 'f');
     assert.equal(info.sampleCount, 96000);
-    const r = await runCli(['measure', path, '--tone-hz', '1000', '--carrier-hz', '6000', '--json']);
+    const r = await runMeasure([path, '--tone-hz', '1000', '--carrier-hz', '6000', '--json']);
     assert.equal(r.code, 0, r.err);
     const j = JSON.parse(r.out);
     assert.ok(Math.abs(j.suppression_db - 50) < 0.5, `suppression ${j.suppression_db}`);

@@ -101,7 +101,7 @@ export function decode(bytes: Uint8Array, f: SampleFormat, out: Float32Array): v
 
 /**
  * A recording whose samples sit contiguously in one file from `dataOffset`.
- * Reads are positioned, so several readers may share nothing but the path.
+ * Reads are positioned (no shared file offset), so reads may overlap or come in any order.
  */
 export class ContiguousRecording implements IqRecording {
   readonly formatLabel: string;
