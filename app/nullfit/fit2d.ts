@@ -15,7 +15,7 @@
 
 import { BenchError, check } from '../errors';
 import { levenbergMarquardt, normalEquations, type LmResult, type Residuals } from './lm';
-import { covariance, dot, linearLeastSquares, matVec, symEigen, type Mat } from './linalg';
+import { covariance, dot, linearLeastSquares, matVec, symEigen, zeros, type Mat } from './linalg';
 import { floorBound, profileBound } from './profile';
 import {
   DB_PER_NP,
@@ -288,11 +288,35 @@ function starts(p: Prepared, o: ResolvedFitOptions, cMin: number, sa: number, sb
   return out.map((s) => [s[0], s[1], s[2], s[3], s[4], mwToDbm(s[5])]);
 }
 
+/**
+ * Covariance of the valley model: only one anchor coordinate, g1, u and C are free (the other anchor
+ * coordinate is held, v is 0), so the inverse is taken over those four and the rest get no variance. Inverting the full matrix instead would mix
+ * the unbounded spread along the valley into the direction across it by rounding.
+ */
+function valleyCovariance(h: Mat, sigma2: number, holdB: boolean): { cov: Mat; undetermined: boolean[] } {
+  const free = [holdB ? 0 : 1, 2, 3, 5];
+  const r = covariance(
+    free.map((i) => free.map((j) => h[i][j])),
+    sigma2,
+  );
+  const cov = zeros(6, 6);
+  free.forEach((i, a) => free.forEach((j, b) => (cov[i][j] = r.cov[a][b])));
+  const undetermined = new Array<boolean>(6).fill(true);
+  free.forEach((i, a) => (undetermined[i] = r.undetermined[a]));
+  return { cov, undetermined };
+}
+
 /** Carrier power at (a, b) for θ = [a0, b0, g1, u, v, C], mW. */
 function carrierMw([a0, b0, g1, u, v, C]: readonly number[], a: number, b: number): number {
   const re = g1 * (a - a0) + u * (b - b0);
   const im = v * (b - b0);
   return re * re + im * im + dbmToMw(C);
+}
+
+/** Index of the lowest reading (censored ones by their bound). */
+function lowestIndex(p: Prepared): number {
+  return p.c.map((c, i) => ({ v: c.censored ? c.boundDbm : c.dbm, i })).reduce((m, x) => (x.v < m.v ? x : m))
+    .i;
 }
 
 function spread(xs: number[]): number {
@@ -337,26 +361,39 @@ export function fitNull2D(readings: readonly Reading2D[], opts?: Fit2DOptions): 
   const flip = g1 < 0 ? -1 : 1;
   const params = [a0, b0, flip * g1, flip * u, Math.abs(v), C];
   const r = fn(params);
-  const full = summarise(p, o, { ...best, params, r: r.r, J: r.J }, fn, sa, sb, false);
+  const full = summarise(p, o, { ...best, params, r: r.r, J: r.J }, fn, sa, sb, null);
   if (full) return full;
   // The data cannot tell the directions apart: refit the collinear model itself (v = 0), so that the
-  // valley it reports is flat as claimed. Only g1·a0 + u·b0 matters then, so b0 stays where it is.
-  const b0Held = params[1];
+  // valley it reports is flat as claimed. Only g1·a0 + u·b0 matters then, so one coordinate of the
+  // anchor point is held: at the lowest reading, so that the other one measures where the valley
+  // runs among the readings (an anchor far away would turn every error of the slope into a shift).
+  const [a0f, b0f, g1f, uf] = params;
+  const iLow = lowestIndex(p);
+  const holdB = Math.abs(g1f) * sa >= 1e-3 * Math.abs(uf) * sb;
+  const anchor = holdB
+    ? [a0f - (uf * (p.b[iLow] - b0f)) / g1f, p.b[iLow]]
+    : [p.a[iLow], b0f - (g1f * (p.a[iLow] - a0f)) / uf];
+  const free = holdB ? 0 : 1;
+  const full6 = (t: readonly number[]): number[] =>
+    holdB ? [t[0], anchor[1], t[1], t[2], 0, t[3]] : [anchor[0], t[0], t[1], t[2], 0, t[3]];
   const reduced = (t: readonly number[]): Residuals => {
-    const res = fn([t[0], b0Held, t[1], t[2], 0, t[3]]);
-    return { r: res.r, J: res.J.map((row) => [row[0], row[2], row[3], row[5]]) };
+    const res = fn(full6(t));
+    return { r: res.r, J: res.J.map((row) => [row[free], row[2], row[3], row[5]]) };
   };
-  const red = levenbergMarquardt(reduced, [params[0], params[2], params[3], params[5]], {
+  const red = levenbergMarquardt(reduced, [anchor[free], g1f, uf, params[5]], {
     loss: o.loss,
     fScale: o.lossScaleDb,
     lower: [-Infinity, -Infinity, -Infinity, cLowDbm],
     upper: [Infinity, Infinity, Infinity, upper[5]],
     maxIterations: 300,
   });
-  const s = red.params[1] < 0 ? -1 : 1;
-  const line = [red.params[0], b0Held, s * red.params[1], s * red.params[2], 0, red.params[3]];
+  const line = full6(red.params);
+  if (line[2] < 0) {
+    line[2] = -line[2];
+    line[3] = -line[3];
+  }
   const rl = fn(line);
-  return summarise(p, o, { ...red, params: line, r: rl.r, J: rl.J }, fn, sa, sb, true)!;
+  return summarise(p, o, { ...red, params: line, r: rl.r, J: rl.J }, fn, sa, sb, { holdB })!;
 }
 
 function summarise(
@@ -366,8 +403,9 @@ function summarise(
   fn: (t: readonly number[]) => Residuals,
   sa: number,
   sb: number,
-  valleyModel: boolean,
+  valleyFit: { holdB: boolean } | null,
 ): NullFit2D | null {
+  const valleyModel = valleyFit !== null;
   const [a0, b0, g1, u, v, C] = lm.params;
   const c2 = dbmToMw(C);
   const { h } = normalEquations(lm, lm.weights);
@@ -379,7 +417,9 @@ function summarise(
   const sigmaDb = estimated ? sHat : o.uDb > 0 ? o.uDb : NaN;
   const dof = estimated ? dofFit : Infinity;
   const k = coverageFactor(o.level, dof);
-  const { cov, undetermined } = covariance(h, Number.isFinite(sigmaDb) ? sigmaDb ** 2 : 1);
+  const { cov, undetermined } = valleyModel
+    ? valleyCovariance(h, Number.isFinite(sigmaDb) ? sigmaDb ** 2 : 1, valleyFit.holdB)
+    : covariance(h, Number.isFinite(sigmaDb) ? sigmaDb ** 2 : 1);
   const sd = (j: number): number =>
     undetermined[j] || !Number.isFinite(sigmaDb) ? Infinity : Math.sqrt(cov[j][j]);
 
@@ -403,9 +443,7 @@ function summarise(
     const t = (na * ((a - a0) / sa) + nb * ((b - b0) / sb)) / (na * na + nb * nb);
     return { a: a0 + t * valley[0], b: b0 + t * valley[1] };
   };
-  const iLow = p.c
-    .map((c, i) => ({ v: c.censored ? c.boundDbm : c.dbm, i }))
-    .reduce((m, x) => (x.v < m.v ? x : m)).i;
+  const iLow = lowestIndex(p);
   const best = nearestBest(p.a[iLow], p.b[iLow]);
 
   const predictMw = (a: number, b: number): number => carrierMw(lm.params, a, b);

@@ -179,6 +179,17 @@ describe('nextTrial2D()', () => {
     );
   });
 
+  it('finds the valley of a collinear pair, and stops on it (6 benches)', () => {
+    const runs = Array.from({ length: 6 }, (_, i) => {
+      const b = randomBench2D(3000 + i);
+      return run2D({ ...b, gB: polar(Math.hypot(...b.gB), 0) }, 3000 + i);
+    });
+    const toNull = runs.map((r) => r.toNull);
+    const toStop = runs.map((r) => r.toStop);
+    assert.ok(Math.max(...toNull) <= 16, `readings to the valley: ${toNull.join(' ')}`);
+    assert.ok(Math.max(...toStop) <= 25, `stopped after ${toStop.join(' ')}`);
+  });
+
   it('refuses bad bounds', () => {
     assert.throws(
       () => nextTrial2D([], { a: [0, 10], b: [5, 5] }),
