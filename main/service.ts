@@ -18,6 +18,8 @@ import { assertReceiverSafe, validatePath } from '../app/path';
 import { benchErrorFromZod } from '../app/zodissue';
 import { validateCalibration } from '../app/calibration';
 import { LiveBench, type LiveOptions } from './bench/live';
+import { recordHandlers } from './records/handlers';
+import { chromiumPdf, type PdfRenderer } from './sheet/pdf';
 import { seedDemo } from './demo';
 import { PlanDesk } from './plans';
 import { ReceiverDesk } from './receivers';
@@ -38,6 +40,8 @@ export interface ServiceOptions {
   live?: LiveOptions;
   /** Overrides how sources are made (tests inject fakes). */
   createSource?: (spec: string, env?: SourceEnv) => LevelSource;
+  /** Prints a test sheet to PDF: headless Chromium by default; the desktop shell passes its own. */
+  pdf?: PdfRenderer;
 }
 
 export type Handlers = { [K in CallName]: (args: ParsedArgs<K>) => Promise<CallResults[K]> | CallResults[K] };
@@ -73,7 +77,9 @@ export class Service {
       notice: (n) => this.emit('notice', n),
       caution: RF_CAUTION,
     });
+    const pdf = opts.pdf ?? chromiumPdf;
     this.handlers = {
+      ...recordHandlers(this.store, () => pdf),
       status: () => this.status(),
       tree: () => this.store.tree(),
       createDesign: (a) => this.store.createDesign(a),

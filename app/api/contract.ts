@@ -9,12 +9,14 @@ import {
   TrimPositionsSchema,
   UnitInputSchema,
 } from './schemas';
+import { RECORD_CALLS } from './records';
 import { RECEIVER_CALLS } from './rxcalls';
 
 const SessionRef = z.object({ sessionId: z.string().min(1).max(64) });
 
 /** Argument schema of every call. The result types live in `ServiceApi` below. */
 export const CALLS = {
+  ...RECORD_CALLS,
   status: z.object({}),
   tree: z.object({}),
   createDesign: DesignInputSchema,

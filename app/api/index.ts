@@ -3,3 +3,4 @@ export * from './schemas';
 export * from './contract';
 export * from './service';
 export * from './rxcalls';
+export * from './records';

@@ -1,6 +1,7 @@
 // Runs anywhere (app/ is runtime-free). The typed shape of the service: what each call returns
 // and which payload each event carries. main/service implements it; renderer/api consumes it.
 import type { CallArgs, CallName, NoticeEvent, ProgressEvent } from './contract';
+import type { RecordCallResults } from './records';
 import type { ReceiverCallResults } from './rxcalls';
 import type {
   Design,
@@ -18,7 +19,7 @@ export interface SweepResult {
   readings: Reading[];
 }
 
-export interface CallResults extends ReceiverCallResults {
+export interface CallResults extends ReceiverCallResults, RecordCallResults {
   status: Status;
   tree: Tree;
   createDesign: Design;
