@@ -1,5 +1,11 @@
 // Runs in Node. The command-line shell: one explicit list of commands, one line each.
 import type { Command, Io } from './command';
+import { compareCommand } from './compare';
+import { addCommand, editCommand } from './edit';
+import { limitsCommand } from './limits';
+import { sheetCommand } from './sheet';
+import { exportCommand, importCommand } from './transfer';
+import { designsCommand, unitsCommand } from './units';
 import { demoCommand } from './demo';
 import { fitCommand } from './fit';
 import { logCommand } from './log';
@@ -20,6 +26,15 @@ export const COMMANDS: Command[] = [
   planCommand,
   receiversCommand,
   templatesCommand,
+  designsCommand,
+  unitsCommand,
+  addCommand,
+  editCommand,
+  compareCommand,
+  limitsCommand,
+  sheetCommand,
+  exportCommand,
+  importCommand,
 ];
 
 export function usage(): string {

@@ -1,0 +1,140 @@
+// Runs in Node. `nullbench export` and `nullbench import`: move designs, units, sessions and readings between
+// benches as one JSON bundle keyed by stable IDs (merged without duplicates), or readings out as CSV.
+import { readFileSync } from 'node:fs';
+import { BUNDLE_KINDS } from '../../../app/bundle';
+import { BenchError } from '../../../app/errors';
+import { parseOptions, reportError, type Command } from './command';
+import { withRecords, writeWhole } from './records';
+
+export const exportCommand: Command = {
+  name: 'export',
+  summary: 'export everything (or one design) as a JSON bundle, or the readings as CSV',
+  usage: `nullbench export --out FILE [--design NAME] [--csv [--unit SERIAL | --session ID]] [--db FILE]
+
+Options:
+  --out FILE        where to write (the file is written whole or not at all)
+  --design NAME     only this design and everything under it
+  --csv             the readings as CSV (RFC 4180, one row per reading, units in the header)
+  --unit SERIAL     with --csv: only this unit's readings
+  --session ID      with --csv: only this session's readings
+  --db FILE         database (default: the user's)`,
+  async run(argv, io) {
+    try {
+      const { values } = parseOptions(argv, {
+        db: { type: 'string' },
+        out: { type: 'string' },
+        design: { type: 'string' },
+        csv: { type: 'boolean', default: false },
+        unit: { type: 'string' },
+        session: { type: 'string' },
+        help: { type: 'boolean', short: 'h', default: false },
+      });
+      if (values.help) {
+        io.out(this.usage + '\n');
+        return 0;
+      }
+      if (!values.out) throw new BenchError('EINVAL', 'is required', '--out');
+      if (!values.csv && (values.unit !== undefined || values.session !== undefined))
+        throw new BenchError(
+          'EINVAL',
+          'only with --csv (a bundle holds whole designs)',
+          values.unit !== undefined ? '--unit' : '--session',
+        );
+      await withRecords(values.db, async ({ service, records }) => {
+        const designId =
+          values.design !== undefined ? records.findDesign(values.design, '--design').id : undefined;
+        if (values.csv) {
+          const unitId =
+            values.unit !== undefined ? records.unitBySerial(values.unit.trim(), '--unit').id : undefined;
+          const r = await service.invoke('exportCsv', { designId, unitId, sessionId: values.session });
+          writeWhole(values.out!, r.csv);
+          io.out(`${r.rows} readings written to ${values.out}\n`);
+        } else {
+          const r = await service.invoke('exportBundle', { designId });
+          writeWhole(values.out!, r.json);
+          io.out(
+            `Bundle written to ${values.out}: ${Object.entries(r.counts)
+              .map(([k, n]) => `${n} ${k}`)
+              .join(', ')}\n`,
+          );
+        }
+      });
+      return 0;
+    } catch (e) {
+      return reportError(e, io);
+    }
+  },
+};
+
+export const importCommand: Command = {
+  name: 'import',
+  summary: 'merge a JSON bundle into the database (no duplicates; a bad file changes nothing)',
+  usage: `nullbench import FILE.json [--db FILE] [--json]
+
+Records already here (the same ID, or a design, revision or unit of the same name or serial) are not
+added twice; where the local record differs, the local one is kept and the difference reported. The
+whole file is checked first and merged in one transaction: a bad file is refused with the line or the
+field at fault, and nothing is written.
+
+Options:
+  --db FILE   database (default: the user's)
+  --json      print the summary as JSON`,
+  async run(argv, io) {
+    try {
+      const { values, positionals } = parseOptions(
+        argv,
+        {
+          db: { type: 'string' },
+          json: { type: 'boolean', default: false },
+          help: { type: 'boolean', short: 'h', default: false },
+        },
+        true,
+      );
+      if (values.help) {
+        io.out(this.usage + '\n');
+        return 0;
+      }
+      if (positionals.length !== 1)
+        throw new BenchError('EINVAL', 'give exactly one bundle file', 'arguments');
+      const file = positionals[0];
+      let text: string;
+      try {
+        text = readFileSync(file, 'utf8');
+      } catch (e) {
+        throw new BenchError(
+          'EIO',
+          `cannot read: ${(e as NodeJS.ErrnoException).code ?? (e as Error).message}`,
+          file,
+        );
+      }
+      await withRecords(values.db, async ({ service }) => {
+        let s;
+        try {
+          s = await service.invoke('importBundle', { text });
+        } catch (e) {
+          if (e instanceof BenchError)
+            throw new BenchError(
+              e.code,
+              `${e.message.replace(e.field ? `${e.field}: ` : '', '')} (nothing was imported)`,
+              `${file}: ${e.field ?? ''}`.replace(/: $/, ''),
+            );
+          throw e;
+        }
+        if (values.json) {
+          io.out(JSON.stringify(s, null, 2) + '\n');
+          return;
+        }
+        const added = BUNDLE_KINDS.filter((k) => s.added[k]).map((k) => `${s.added[k]} ${k}`);
+        const same = BUNDLE_KINDS.filter((k) => s.unchanged[k]).map((k) => `${s.unchanged[k]} ${k}`);
+        io.out(
+          `Imported ${file}: added ${added.join(', ') || 'nothing'}; already here ${same.join(', ') || 'nothing'}.\n`,
+        );
+        for (const m of s.matchedByName) io.out(`  ${m}\n`);
+        for (const k of s.keptLocal) io.out(`  ${k}\n`);
+      });
+      return 0;
+    } catch (e) {
+      return reportError(e, io);
+    }
+  },
+};

@@ -1,0 +1,294 @@
+// The record-keeping commands as a user types them: units, designs, add, edit, compare, limits, export,
+// import.
+import { describe, it } from 'node:test';
+import assert from 'node:assert/strict';
+import { readFileSync, writeFileSync } from 'node:fs';
+import { join } from 'node:path';
+import Database from 'better-sqlite3';
+import { runBin, runCli } from '../helpers/cli';
+import { demoDb } from '../helpers/demo';
+
+const count = (file: string, table: string) => {
+  const db = new Database(file, { readonly: true });
+  const n = (db.prepare(`SELECT COUNT(*) AS n FROM ${table}`).get() as { n: number }).n;
+  db.close();
+  return n;
+};
+
+describe('nullbench records commands', () => {
+  it('lists every new command in --help, each with its own --help', async () => {
+    const r = await runCli(['--help']);
+    for (const c of ['designs', 'units', 'add', 'edit', 'compare', 'limits', 'sheet', 'export', 'import']) {
+      assert.match(r.out, new RegExp(`\\n  ${c}\\s`), c);
+      const h = await runCli([c, '--help']);
+      assert.equal(h.code, 0, c);
+      assert.match(h.out, new RegExp(`nullbench ${c}`));
+    }
+  });
+
+  it('units --json prints a JSON array of units with their serials', async () => {
+    const d = await demoDb();
+    try {
+      const r = await runCli(['units', '--db', d.file, '--json']);
+      assert.equal(r.code, 0, r.err);
+      const units = JSON.parse(r.out) as {
+        serial: string;
+        design: string;
+        revision: string;
+        sessions: number;
+      }[];
+      assert.ok(Array.isArray(units));
+      assert.deepEqual(
+        units.map((u) => u.serial),
+        ['HD40-0101', 'HD40-0102', 'HD40-0103', 'HD40-0201', 'HD40-0202', 'HD40-0203'],
+      );
+      assert.equal(units[3].revision, 'R2');
+      assert.equal(units[0].sessions, 1);
+      const text = await runCli(['units', '--db', d.file, '--design', 'Heron DSB-40']);
+      assert.match(text.out, /HD40-0203\s+Heron DSB-40 R2\s+2026-08-09/);
+      const bad = await runCli(['units', '--db', d.file, '--design', 'Kestrel']);
+      assert.equal(bad.code, 1);
+      assert.match(bad.err, /--design: no design "Kestrel" \(there is "Heron DSB-40"\)/);
+    } finally {
+      d.cleanup();
+    }
+  });
+
+  it('add creates what is missing; edit renames, notes what changed and corrects a unit', async () => {
+    const d = await demoDb();
+    try {
+      const a = await runCli([
+        'add',
+        '--db',
+        d.file,
+        '--design',
+        'Heron DSB-40',
+        '--revision',
+        'R3',
+        '--changes',
+        'SMD ring modulator',
+        '--unit',
+        'HD40-0301',
+        '--builder',
+        'Workshop',
+        '--build-date',
+        '2026-10-02',
+      ]);
+      assert.equal(a.code, 0, a.err);
+      assert.match(a.out, /design "Heron DSB-40" is there; added revision R3; added unit HD40-0301/);
+      const again = await runCli([
+        'add',
+        '--db',
+        d.file,
+        '--design',
+        'Heron DSB-40',
+        '--revision',
+        'R3',
+        '--unit',
+        'HD40-0301',
+      ]);
+      assert.match(again.out, /unit HD40-0301 is there/);
+      const clash = await runCli([
+        'add',
+        '--db',
+        d.file,
+        '--design',
+        'Heron DSB-40',
+        '--revision',
+        'R1',
+        '--unit',
+        'HD40-0301',
+      ]);
+      assert.equal(clash.code, 1);
+      assert.match(clash.err, /already exists under another revision/);
+      const e1 = await runCli([
+        'edit',
+        '--db',
+        d.file,
+        '--design',
+        'Heron DSB-40',
+        '--revision',
+        'R3',
+        '--rename',
+        'R3a',
+        '--changes',
+        'SMD ring modulator, new crystal',
+      ]);
+      assert.equal(e1.code, 0, e1.err);
+      const e2 = await runCli([
+        'edit',
+        '--db',
+        d.file,
+        '--unit',
+        'HD40-0301',
+        '--notes',
+        'first of the batch',
+        '--move-to',
+        'R2',
+      ]);
+      assert.equal(e2.code, 0, e2.err);
+      const tree = JSON.parse((await runCli(['designs', '--db', d.file, '--json'])).out);
+      const r3 = tree[0].revisions.find((r: { name: string }) => r.name === 'R3a');
+      assert.equal(r3.changes, 'SMD ring modulator, new crystal');
+      const r2 = tree[0].revisions.find((r: { name: string }) => r.name === 'R2');
+      assert.ok(
+        r2.units.some(
+          (u: { serial: string; notes: string }) =>
+            u.serial === 'HD40-0301' && u.notes === 'first of the batch',
+        ),
+      );
+      const wrong = await runCli(['edit', '--db', d.file, '--unit', 'HD40-0301', '--changes', 'x']);
+      assert.equal(wrong.code, 2);
+      assert.match(wrong.err, /--changes: does not apply to a unit/);
+      const none = await runCli(['edit', '--db', d.file, '--design', 'Heron DSB-40']);
+      assert.equal(none.code, 2);
+      assert.match(none.err, /nothing to change/);
+      const conn = new Database(d.file, { readonly: true });
+      const sessions = conn.prepare('SELECT id FROM sessions LIMIT 1').get() as { id: string };
+      conn.close();
+      const em = await runCli(['edit', '--db', d.file, '--session', sessions.id, '--emission', 'LSB']);
+      assert.equal(em.code, 0, em.err);
+      assert.match(em.out, /is LSB/);
+    } finally {
+      d.cleanup();
+    }
+  });
+
+  it('compare shows R2 better than R1 on carrier suppression', async () => {
+    const d = await demoDb();
+    try {
+      const r = await runCli(['compare', '--db', d.file, '--design', 'Heron DSB-40']);
+      assert.equal(r.code, 0, r.err);
+      assert.match(r.out, /Carrier suppression \(dB\)[\s\S]*R1 -> R2: BETTER/);
+      assert.match(r.out, /Opposite sideband suppression[\s\S]*not measured/);
+      const j = JSON.parse(
+        (
+          await runCli([
+            'compare',
+            '--db',
+            d.file,
+            '--design',
+            'Heron DSB-40',
+            '--reference',
+            'tone',
+            '--json',
+          ])
+        ).out,
+      );
+      assert.equal(j.reference, 'tone');
+      assert.equal(j.changes.find((c: { metric: string }) => c.metric === 'carrier').kind, 'better');
+      const bad = await runCli([
+        'compare',
+        '--db',
+        d.file,
+        '--design',
+        'Heron DSB-40',
+        '--reference',
+        'moon',
+      ]);
+      assert.equal(bad.code, 2);
+      assert.match(bad.err, /--reference: must be one of tone, pep, unbalanced/);
+    } finally {
+      d.cleanup();
+    }
+  });
+
+  it('limits lists presets with sources, saves a user set from a file and deletes it', async () => {
+    const d = await demoDb();
+    try {
+      const l = await runCli(['limits', '--db', d.file]);
+      assert.match(l.out, /preset:us-97\.307d\n.*\[regulation\]\n\s+source: 47 CFR 97\.307\(d\)/);
+      assert.match(l.out, /from a secondary source: confirm/);
+      assert.match(l.out, /optional: another radio service/);
+      assert.match(l.out, /Verify against your local rules/);
+      const f = join(d.dir, 'mine.json');
+      writeFileSync(
+        f,
+        JSON.stringify({
+          name: 'Kit target',
+          rules: [
+            { metric: 'carrier', reference: 'pep', minDb: 50 },
+            { metric: 'imd3', reference: 'pep', minDb: 30 },
+          ],
+        }),
+      );
+      const s = await runCli(['limits', '--db', d.file, '--save', f]);
+      assert.equal(s.code, 0, s.err);
+      assert.match(s.out, /saved limit set "Kit target"/);
+      writeFileSync(f, '{"name": "Broken", "rules": [{"metric": "balance", "maxDb": 90}]}');
+      const b = await runCli(['limits', '--db', d.file, '--save', f]);
+      assert.equal(b.code, 2);
+      assert.match(b.err, /rules\[0\]\.maxDb: must be <= 40 dB/);
+      const del = await runCli(['limits', '--db', d.file, '--delete', 'Kit target']);
+      assert.equal(del.code, 0, del.err);
+      assert.equal(count(d.file, 'limit_sets'), 0);
+    } finally {
+      d.cleanup();
+    }
+  });
+
+  it('export and import move a design between databases without duplicates (as the installed command)', async () => {
+    const d = await demoDb();
+    try {
+      const bundle = join(d.dir, 'heron.json');
+      const e = runBin(['export', '--db', d.file, '--out', bundle, '--design', 'Heron DSB-40']);
+      assert.equal(e.code, 0, e.err);
+      assert.match(
+        e.out,
+        /Bundle written to .*heron\.json: 1 designs, 2 revisions, 6 units, 6 sessions, \d+ readings/,
+      );
+      const other = join(d.dir, 'other.db');
+      const i1 = runBin(['import', '--db', other, bundle]);
+      assert.equal(i1.code, 0, i1.err);
+      assert.match(i1.out, /added 1 designs, 2 revisions, 6 units, 6 sessions, \d+ readings/);
+      const n = count(other, 'readings');
+      const i2 = runBin(['import', '--db', other, bundle]);
+      assert.equal(i2.code, 0, i2.err);
+      assert.match(i2.out, /added nothing/);
+      assert.equal(count(other, 'readings'), n);
+      const again = join(d.dir, 'again.json');
+      assert.equal(runBin(['export', '--db', other, '--out', again]).code, 0);
+      assert.equal(
+        readFileSync(again, 'utf8'),
+        readFileSync(bundle, 'utf8').replace(
+          '"scope": {"design":"Heron DSB-40"}',
+          '"scope": {"design":null}',
+        ),
+      );
+      const csv = join(d.dir, 'r.csv');
+      const c = await runCli(['export', '--db', other, '--csv', '--unit', 'HD40-0201', '--out', csv]);
+      assert.equal(c.code, 0, c.err);
+      assert.match(c.out, /^\d+ readings written to/);
+    } finally {
+      d.cleanup();
+    }
+  });
+
+  it('import refuses a corrupt bundle naming the field, exits 2 and writes nothing', async () => {
+    const d = await demoDb();
+    try {
+      const bundle = join(d.dir, 'all.json');
+      assert.equal((await runCli(['export', '--db', d.file, '--out', bundle])).code, 0);
+      const other = join(d.dir, 'other.db');
+      await runCli(['add', '--db', other, '--design', 'Local']);
+      const b = JSON.parse(readFileSync(bundle, 'utf8'));
+      b.readings[5].uDb = -1;
+      const bad = join(d.dir, 'bad.json');
+      writeFileSync(bad, JSON.stringify(b));
+      const r = await runCli(['import', '--db', other, bad]);
+      assert.equal(r.code, 2);
+      assert.match(r.err, /bad\.json: readings\[5\]\.uDb: .*\(nothing was imported\)/);
+      writeFileSync(bad, readFileSync(bundle, 'utf8').slice(0, 5000));
+      const cut = await runCli(['import', '--db', other, bad]);
+      assert.equal(cut.code, 2);
+      assert.match(cut.err, /bad\.json: line \d+, column \d+: not valid JSON: the file ends early/);
+      assert.equal(count(other, 'readings'), 0);
+      assert.equal(count(other, 'designs'), 1);
+      const missing = await runCli(['import', '--db', other, join(d.dir, 'nope.json')]);
+      assert.equal(missing.code, 1);
+      assert.match(missing.err, /nope\.json: cannot read: ENOENT/);
+    } finally {
+      d.cleanup();
+    }
+  });
+});
