@@ -20,6 +20,52 @@ interface DemoUnit {
   buildDate: string;
 }
 
+/** Alignment passes: two coarse sweeps over the trimmers' travel, then narrower ones around the best so far. */
+const PASSES: { trim: 'A' | 'B'; from?: number; to?: number; span?: number; steps: number }[] = [
+  { trim: 'A', from: 1, to: 8, steps: 15 },
+  { trim: 'B', from: 2, to: 9, steps: 15 },
+  { trim: 'A', span: 0.5, steps: 11 },
+  { trim: 'B', span: 0.5, steps: 11 },
+  { trim: 'A', span: 0.1, steps: 11 },
+  { trim: 'B', span: 0.1, steps: 11 },
+  { trim: 'A', span: 0.02, steps: 9 },
+];
+
+/** What is kept after the null: the test sheet and the revision comparison are computed from these. */
+const FINAL_POINTS: PointRole[] = [
+  'carrier',
+  'upper',
+  'lower',
+  'imd3u',
+  'imd3l',
+  'reference',
+  'floor',
+  'h2',
+  'h3',
+];
+
+/**
+ * The bench receiver's calibration: checked against a signal generator on the date given (invented). The
+ * simulated receiver follows IARU R.1 exactly, so the table is R.1's, with the table's own uncertainty.
+ */
+const DEMO_CALIBRATION = {
+  name: 'Bench receiver, generator check',
+  quantity: 'strength-db',
+  bands: [
+    {
+      fromHz: 0,
+      toHz: 30e6,
+      points: [
+        { raw: -54, dbm: -127 },
+        { raw: 0, dbm: -73 },
+        { raw: 60, dbm: -13 },
+      ],
+    },
+  ],
+  uDb: 0.5,
+  madeAt: '2026-03-01',
+};
+
 const REVISIONS: { name: string; changes: string; leakageDbc: number; units: DemoUnit[] }[] = [
   {
     name: 'R1',
@@ -92,7 +138,7 @@ export async function seedDemo(store: Store): Promise<DemoSummary> {
         receiver: {
           name: 'Bench receiver (simulated)',
           source: `sim:seed=${u.seed}`,
-          calibration: null,
+          calibration: DEMO_CALIBRATION,
           bandwidthHz: 500,
           maxInputDbm: 10,
         },
@@ -104,22 +150,26 @@ export async function seedDemo(store: Store): Promise<DemoSummary> {
         toneHz: 1000,
         txPepDbm: 30,
         operator: u.builder,
-        notes: 'Carrier null by trimmer A, then B; tones and reference afterwards.',
+        notes:
+          'Carrier null by trimmer A, then B, coarse then fine; tones, products, reference and floor afterwards.',
         trims: TRIMS,
       });
       store.db
         .prepare('UPDATE sessions SET started_at = ? WHERE id = ?')
         .run(new Date(day).toISOString(), s.id);
       await service.invoke('openSession', { sessionId: s.id });
-      // A coarse sweep of A with B where it came from the factory, then of B with A at its best.
-      const a = await service.invoke('sweep', { trim: 'A', from: 1, to: 8, steps: 15 });
-      const bestA = a.readings.reduce((m, x) => (x.dbmDut < m.dbmDut ? x : m)).trims.A;
-      await service.invoke('setTrims', { trims: { A: bestA } });
-      const b = await service.invoke('sweep', { trim: 'B', from: 2, to: 9, steps: 15 });
-      const bestB = b.readings.reduce((m, x) => (x.dbmDut < m.dbmDut ? x : m)).trims.B;
-      await service.invoke('setTrims', { trims: { B: bestB } });
-      kept += a.readings.length + b.readings.length;
-      for (const role of ['carrier', 'upper', 'lower', 'imd3u', 'imd3l', 'reference'] as PointRole[]) {
+      // A coarse sweep of A with B where it came from the factory, then of B with A at its best, then finer
+      // passes around the best of each, as a builder closes in on the null until the layout's leakage stops it.
+      const pos: Record<string, number> = { A: 2, B: 5 };
+      for (const p of PASSES) {
+        const from = p.span === undefined ? p.from! : pos[p.trim] - p.span;
+        const to = p.span === undefined ? p.to! : pos[p.trim] + p.span;
+        const r = await service.invoke('sweep', { trim: p.trim, from, to, steps: p.steps });
+        pos[p.trim] = r.readings.reduce((m, x) => (x.dbmDut < m.dbmDut ? x : m)).trims[p.trim];
+        await service.invoke('setTrims', { trims: { [p.trim]: pos[p.trim] } });
+        kept += r.readings.length;
+      }
+      for (const role of FINAL_POINTS) {
         await service.invoke('tune', { role });
         await service.invoke('keep', { note: role === 'carrier' ? 'final null' : '', waitSettled: true });
         kept++;
