@@ -11,6 +11,7 @@ declare module 'electron' {
     allowRunningInsecureContent?: boolean;
     webviewTag?: boolean;
     spellcheck?: boolean;
+    javascript?: boolean;
   }
   export interface BrowserWindowConstructorOptions {
     width?: number;
@@ -41,6 +42,8 @@ declare module 'electron' {
     constructor(options?: BrowserWindowConstructorOptions);
     webContents: WebContents;
     loadFile(path: string): Promise<void>;
+    loadURL(url: string): Promise<void>;
+    destroy(): void;
     once(event: 'ready-to-show', listener: () => void): this;
     show(): void;
     static getAllWindows(): BrowserWindow[];

@@ -19,7 +19,8 @@ export function chromiumPath(): string {
   return process.env.CHROMIUM_PATH ?? '/usr/bin/chromium';
 }
 
-function footerTemplate(text: string): string {
+/** The footer Chromium prints on every page: the sheet reference, and page N of M. */
+export function footerTemplate(text: string): string {
   const esc = text.replace(/[&<>"']/g, (c) => `&#${c.charCodeAt(0)};`);
   // Chromium's header/footer templates take inline styles only; they live outside the page and its CSP.
   return `<div style="font-family:'DejaVu Sans',sans-serif;font-size:7px;color:#5b6f74;width:100%;padding:0 13mm;display:flex;justify-content:space-between"><span>${esc}</span><span>page <span class="pageNumber"></span> of <span class="totalPages"></span></span></div>`;

@@ -8,6 +8,7 @@ import { EVENTS } from '../../../app/api';
 import { defaultDbPath, rendererDir } from '../../paths';
 import { Service, toFailure } from '../../service';
 import { Store } from '../../store/store';
+import { electronPdf } from './sheetpdf';
 import { CALL_CHANNEL, EVENT_CHANNEL_PREFIX, isTrustedSenderUrl, windowOptions } from './config';
 
 app.enableSandbox();
@@ -39,7 +40,7 @@ app.whenReady().then(() => {
     return;
   }
   const store = new Store(process.env.NULLBENCH_DB ?? defaultDbPath(), { nativeBinding: binding });
-  const service = new Service({ store, mode: 'desktop' });
+  const service = new Service({ store, mode: 'desktop', pdf: electronPdf });
 
   ipcMain.handle(CALL_CHANNEL, async (event, name, args) => {
     if (!isTrustedSenderUrl(event.senderFrame?.url, indexUrl)) {
