@@ -371,7 +371,7 @@ export function fitNull2D(readings: readonly Reading2D[], opts?: Fit2DOptions): 
   const iLow = lowestIndex(p);
   const holdB = Math.abs(g1f) * sa >= 1e-3 * Math.abs(uf) * sb;
   const anchor = holdB
-    ? [a0f - (uf * (p.b[iLow] - b0f)) / g1f, p.b[iLow]]
+    ? [g1f !== 0 ? a0f - (uf * (p.b[iLow] - b0f)) / g1f : p.a[iLow], p.b[iLow]]
     : [p.a[iLow], b0f - (g1f * (p.a[iLow] - a0f)) / uf];
   const free = holdB ? 0 : 1;
   const full6 = (t: readonly number[]): number[] =>
@@ -410,7 +410,7 @@ function summarise(
   const c2 = dbmToMw(C);
   const { h } = normalEquations(lm, lm.weights);
   const used = p.c.filter((k, i) => !k.censored || lm.r[i] !== 0).length;
-  // The valley model has four free parameters (a0 and g1, u, C; b0 is held, v is 0).
+  // The valley model has four free parameters (one anchor coordinate, g1, u, C; the other is held, v is 0).
   const dofFit = used - (valleyModel ? 4 : 6);
   const sHat = dofFit >= 1 ? Math.sqrt((2 * lm.cost) / dofFit) : NaN;
   const estimated = Number.isFinite(sHat) && sHat > o.uDb;

@@ -61,6 +61,22 @@ export function nextTrial1D(
   const uDb = opts.uDb ?? DEFAULT_GUIDE_UDB;
   const positions = readings.map((r, i) => checkNumber(r?.position, `readings[${i}].position`));
 
+  // Readings over the whole travel that all agree: the trimmer is not acting on the carrier at all.
+  const levels = readings.map((r) => r.dbm);
+  const covered = Math.max(...positions) - Math.min(...positions) >= 0.6 * span;
+  if (readings.length >= 4 && covered && Math.max(...levels) - Math.min(...levels) < 2 * uDb) {
+    return {
+      position: roundTo(positions[levels.indexOf(Math.min(...levels))], resolution),
+      predictedDbm: null,
+      band: null,
+      expectedGainDb: 0,
+      stop: true,
+      mode: 'done',
+      reason: `stop: over the whole travel the level stays within ${db(Math.max(...levels) - Math.min(...levels))}: this trimmer does not move the carrier (or the carrier is below the receiver's floor)`,
+      fit: null,
+    };
+  }
+
   let fit: NullFit1D | null = null;
   try {
     fit = fitNull1D(readings, { ...opts, uDb });

@@ -89,6 +89,38 @@ export function nextTrial2D(
   });
   const say = (p: { a: number; b: number }): string => `A ${fixed(p.a, res.a)}, B ${fixed(p.b, res.b)}`;
 
+  // Readings over both travels that all agree: neither trimmer is acting on the carrier.
+  const levels = readings.map((r) => r.dbm);
+  const spreadDb = Math.max(...levels) - Math.min(...levels);
+  const covers = (xs: number[], lo: number, hi: number): boolean =>
+    Math.max(...xs) - Math.min(...xs) >= 0.6 * (hi - lo);
+  if (
+    readings.length >= 6 &&
+    spreadDb < 2 * uDb &&
+    covers(
+      pts.map((p) => p.a),
+      aLo,
+      aHi,
+    ) &&
+    covers(
+      pts.map((p) => p.b),
+      bLo,
+      bHi,
+    )
+  ) {
+    const low = pts[levels.indexOf(Math.min(...levels))];
+    return {
+      ...round(low.a, low.b),
+      predictedDbm: null,
+      band: null,
+      expectedGainDb: 0,
+      stop: true,
+      mode: 'done',
+      reason: `stop: over both travels the level stays within ${db(spreadDb)}: the trimmers do not move the carrier (or it is below the receiver's floor)`,
+      fit: null,
+    };
+  }
+
   let fit: NullFit2D | null = null;
   try {
     fit = fitNull2D(readings, { ...opts, uDb });

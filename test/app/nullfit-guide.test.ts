@@ -108,6 +108,24 @@ describe('nextTrial1D()', () => {
     assert.match(t.reason, /beyond the end of travel/);
   });
 
+  it('stops when the trimmer does not move the level at all, or every reading sits on the floor', () => {
+    for (const [level, floorDbm] of [
+      [-40, undefined],
+      [-95.2, -95],
+    ] as const) {
+      const g = rng(9);
+      const readings: Reading1D[] = [];
+      let t = nextTrial1D(readings, [0, 10], { floorDbm });
+      for (let k = 0; k < 20 && !t.stop; k++) {
+        readings.push({ position: t.position, dbm: level + 0.05 * g.gauss() });
+        t = nextTrial1D(readings, [0, 10], { floorDbm });
+      }
+      assert.equal(t.stop, true, `${level} dBm: did not stop after ${readings.length} readings: ${t.reason}`);
+      assert.ok(readings.length <= 12, `${level} dBm: took ${readings.length} readings`);
+      assert.match(t.reason, /does not move the carrier \(or the carrier is below the receiver's floor\)/);
+    }
+  });
+
   it('refuses bad bounds and bad readings, naming them', () => {
     assert.throws(
       () => nextTrial1D([], [10, 0]),
@@ -188,6 +206,19 @@ describe('nextTrial2D()', () => {
     const toStop = runs.map((r) => r.toStop);
     assert.ok(Math.max(...toNull) <= 16, `readings to the valley: ${toNull.join(' ')}`);
     assert.ok(Math.max(...toStop) <= 25, `stopped after ${toStop.join(' ')}`);
+  });
+
+  it('stops after the survey when neither trimmer moves the level', () => {
+    const g = rng(4);
+    const readings: Reading2D[] = [];
+    let t = nextTrial2D(readings, { a: [0, 10], b: [0, 300] });
+    for (let k = 0; k < 20 && !t.stop; k++) {
+      readings.push({ a: t.a, b: t.b, dbm: -52 + 0.05 * g.gauss() });
+      t = nextTrial2D(readings, { a: [0, 10], b: [0, 300] });
+    }
+    assert.equal(t.stop, true, t.reason);
+    assert.equal(readings.length, 6);
+    assert.match(t.reason, /the trimmers do not move the carrier/);
   });
 
   it('refuses bad bounds', () => {
