@@ -31,6 +31,17 @@ export type TrialMode = 'survey' | 'probe' | 'confirm' | 'done';
 
 export const DEFAULT_GUIDE_UDB = 0.3;
 
+/** The guide's reading uncertainty: opts.uDb or the default, and never zero (it is the stop threshold). */
+export function guideUDb(opts: GuideOptions): number {
+  const u = opts.uDb ?? DEFAULT_GUIDE_UDB;
+  check(
+    typeof u === 'number' && u > 0 && u <= 20,
+    'opts.uDb',
+    `must be a reading uncertainty above 0 and at most 20 dB, got ${String(u)}`,
+  );
+  return u;
+}
+
 export function checkRange(r: unknown, field: string): [number, number] {
   check(
     Array.isArray(r) &&

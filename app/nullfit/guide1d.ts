@@ -4,12 +4,12 @@ import { check, isBenchError } from '../errors';
 import { fitNull1D, type NullFit1D, type Reading1D } from './fit1d';
 import { db, dbm, fixed, roundTo } from './format';
 import {
-  DEFAULT_GUIDE_UDB,
   SIGMA_POINTS,
   SURVEY_FRACTIONS,
   checkRange,
   clamp,
   designGain,
+  guideUDb,
   lowestLevel,
   uncertaintyLossDb,
   type GuideOptions,
@@ -58,7 +58,7 @@ export function nextTrial1D(
     'opts.resolution',
     `must be a step above 0 and at most the travel (${span}), got ${String(resolution)}`,
   );
-  const uDb = opts.uDb ?? DEFAULT_GUIDE_UDB;
+  const uDb = guideUDb(opts);
   const positions = readings.map((r, i) => checkNumber(r?.position, `readings[${i}].position`));
 
   // Readings over the whole travel that all agree: the trimmer is not acting on the carrier at all.

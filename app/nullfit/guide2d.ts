@@ -4,11 +4,11 @@ import { check, isBenchError } from '../errors';
 import { fitNull2D, type NullFit2D, type Reading2D } from './fit2d';
 import { db, dbm, fixed, roundTo } from './format';
 import {
-  DEFAULT_GUIDE_UDB,
   SIGMA_POINTS,
   checkRange,
   clamp,
   designGain,
+  guideUDb,
   lowestLevel,
   uncertaintyLossDb,
   type GuideOptions,
@@ -78,7 +78,7 @@ export function nextTrial2D(
       `must be a step above 0 and at most the travel (${span}), got ${String(res[k])}`,
     );
   }
-  const uDb = opts.uDb ?? DEFAULT_GUIDE_UDB;
+  const uDb = guideUDb(opts);
   const pts = readings.map((r, i) => ({
     a: checkNumber(r?.a, `readings[${i}].a`),
     b: checkNumber(r?.b, `readings[${i}].b`),
