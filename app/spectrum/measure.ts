@@ -186,7 +186,7 @@ export function measureSpectrum(spectrum: AveragedSpectrum, params: TwoToneParam
   const threshold = Math.max(10 ** (p.marginDb / 10), noiseExceedance(averages, FALSE_ALARM));
 
   // Local floor: the neighbourhood of a component, the components' main lobes and DC left out.
-  const wide = Math.min(256, Math.max(32, Math.round(toneBins / 2)));
+  const wide = Math.min(128, Math.max(32, Math.round(toneBins / 2)));
   const zonesFor = (carrierBin: number, spacing: number): Zone[] => {
     const z: Zone[] = [{ center: 0, halfWidth: guard }];
     for (const o of Object.values(COMPONENT_ORDER))
