@@ -141,14 +141,14 @@ export function validateTemplate(input: unknown, root = ''): SerialTemplate {
     noTerm(cmd, 'setFrequency.command');
     const stripped = cmd.replace(PLACEHOLDER_RE, '');
     check(
-      stripped.length < cmd.length,
-      f('setFrequency.command'),
-      'must contain the frequency as {hz}, {khz} or {mhz} (e.g. "FRQ {hz}" or "T{khz:.3}")',
-    );
-    check(
       !ANY_BRACE_RE.test(stripped),
       f('setFrequency.command'),
       `has an unknown placeholder in "${cmd}"; use {hz}, {khz} or {mhz}, optionally {hz:010} or {khz:.3}`,
+    );
+    check(
+      stripped.length < cmd.length,
+      f('setFrequency.command'),
+      'must contain the frequency as {hz}, {khz} or {mhz} (e.g. "FRQ {hz}" or "T{khz:.3}")',
     );
   }
   return t;

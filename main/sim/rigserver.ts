@@ -65,6 +65,12 @@ export class RigServer {
     await new Promise<void>((ok) => this.server.close(() => ok()));
   }
 
+  /** Answers level queries from these STRENGTH values from now on (dB re S9, used in turn, the last repeating). */
+  setScript(values: number[]): void {
+    this.opts.script = values;
+    this.scriptIndex = 0;
+  }
+
   /** The next `count` level queries meet this fault. */
   inject(fault: RigFault, count = 1): void {
     for (let i = 0; i < count; i++) this.faults.push(fault);

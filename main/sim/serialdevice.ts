@@ -1,8 +1,10 @@
 // Runs in Node (serial port). A simulated receiver on the far end of a serial line (in tests, one end of a pty
 // pair made by socat), speaking the command set of one of our built-in templates and reading its levels from
 // the simulated bench or from a script of exact values. Faults on demand; optionally it keeps the timing of
-// a real UART at a given baud rate, since a pty passes bytes at once.
-import { SerialPort } from 'serialport';
+// a real UART at a given baud rate, since a pty passes bytes at once. It opens its end as a terminal stream
+// (event-driven, no thread-pool hop per read or write), as close as software gets to a device's own UART.
+import { closeSync, openSync } from 'node:fs';
+import { ReadStream, WriteStream } from 'node:tty';
 import { bitsPerCharacter, builtinTemplate, type SerialTemplate } from '../../app/serialtemplate';
 import type { SimBench } from './bench';
 
@@ -72,7 +74,9 @@ export class SimSerialDevice {
   readonly template: SerialTemplate;
   private readonly personality: Personality;
   private readonly opts: SerialDeviceOptions;
-  private port: SerialPort | null = null;
+  private fd: number | null = null;
+  private rs: ReadStream | null = null;
+  private ws: WriteStream | null = null;
   private buf = '';
   private faults: SerialFault[] = [];
   private scriptIndex = 0;
@@ -89,32 +93,32 @@ export class SimSerialDevice {
     if (opts.bench) this.frequencyHz = opts.bench.rx.frequencyHz;
   }
 
-  start(): Promise<void> {
-    const t = this.template;
-    return new Promise((ok, fail) => {
-      const port = new SerialPort({
-        path: this.opts.path,
-        baudRate: this.opts.wireBaud ?? t.defaultBaud,
-        dataBits: t.dataBits,
-        parity: t.parity,
-        stopBits: t.stopBits,
-        autoOpen: false,
-      });
-      port.open((e) => {
-        if (e) return fail(e);
-        this.port = port;
-        port.on('data', (b: Buffer) => this.onData(b.toString('latin1')));
-        port.on('error', () => undefined);
-        port.on('close', () => (this.port = null));
-        ok();
-      });
-    });
+  /** Opens the device's end of the line (a terminal: the pty socat made, already raw). */
+  async start(): Promise<void> {
+    const fd = openSync(this.opts.path, 'r+');
+    this.fd = fd;
+    this.rs = new ReadStream(fd);
+    this.rs.setRawMode(true);
+    this.ws = new WriteStream(fd);
+    this.rs.on('data', (b: Buffer) => this.onData(b.toString('latin1')));
+    this.rs.on('error', () => undefined);
+    this.ws.on('error', () => undefined);
   }
 
-  stop(): Promise<void> {
-    const p = this.port;
-    this.port = null;
-    return new Promise((ok) => (p?.isOpen ? p.close(() => ok()) : ok()));
+  async stop(): Promise<void> {
+    const { rs, ws, fd } = this;
+    this.rs = this.ws = null;
+    this.fd = null;
+    rs?.removeAllListeners('data');
+    rs?.destroy();
+    ws?.destroy();
+    if (fd !== null) {
+      try {
+        closeSync(fd);
+      } catch {
+        // the streams may have closed it already
+      }
+    }
   }
 
   inject(fault: SerialFault, count = 1): void {
@@ -141,21 +145,23 @@ export class SimSerialDevice {
   }
 
   private send(text: string, queryBytes: number, arrived: number): void {
-    const port = this.port;
-    if (!port) return;
+    const ws = this.ws;
+    if (!ws) return;
+    const write = () => {
+      if (this.ws === ws) ws.write(Buffer.from(text, 'latin1'));
+    };
     const baud = this.opts.wireBaud;
-    if (!baud) {
-      port.write(Buffer.from(text, 'latin1'));
-      return;
-    }
+    if (!baud) return write();
     // On a real line the query takes queryBytes characters to arrive and the reply its own length to go back.
     const due = arrived + ((queryBytes + text.length) * bitsPerCharacter(this.template) * 1000) / baud;
     const fire = () => {
-      if (performance.now() >= due) port.write(Buffer.from(text, 'latin1'));
+      if (performance.now() >= due) write();
       else setImmediate(fire);
     };
-    const coarse = due - performance.now() - 1.5;
-    if (coarse > 0) setTimeout(fire, coarse);
+    // Timers are good to a millisecond at best, a quarter of an exchange at 38400 baud: sleep until shortly
+    // before, then poll the clock.
+    const coarse = due - performance.now() - 2;
+    if (coarse >= 1) setTimeout(fire, coarse);
     else fire();
   }
 

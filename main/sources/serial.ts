@@ -134,7 +134,16 @@ export class SerialLink {
             ),
           ),
         );
-        port.on('error', (err: Error) => this.die(new BenchError('EIO', `${this.path}: ${err.message}`)));
+        port.on('error', (err: Error) =>
+          this.die(
+            new BenchError(
+              'EIO',
+              /EIO|ENXIO|ENODEV|i\/o error|bad file descriptor/i.test(err.message)
+                ? `${this.path} went away (adapter unplugged or the line closed): ${err.message}`
+                : `${this.path}: ${err.message}`,
+            ),
+          ),
+        );
         ok();
       });
     });
