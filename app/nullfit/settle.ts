@@ -15,6 +15,12 @@ export interface SettleOptions {
   toleranceDb: number;
   /** Give up (flag) after this long since the first reading, ms, > 0. */
   timeoutMs: number;
+  /**
+   * Largest drift allowed between the mean of the older and of the newer half of the window, dB
+   * (default toleranceDb / 2). A meter still decaying slowly towards a deep null can stay within
+   * ±tolerance for a whole window while it is still dB away from the level; the drift test catches that.
+   */
+  trendDb?: number;
 }
 
 export interface SettleState {
@@ -34,6 +40,7 @@ export class SettleDetector {
   readonly windowCount: number;
   readonly toleranceDb: number;
   readonly timeoutMs: number;
+  readonly trendDb: number;
   private window: number[] = [];
   private startMs: number | null = null;
   private lastMs = -Infinity;
@@ -52,6 +59,7 @@ export class SettleDetector {
     this.windowCount = finiteIn(opts.windowCount, 'SettleDetector.windowCount', 2, 1000);
     this.toleranceDb = finiteIn(opts.toleranceDb, 'SettleDetector.toleranceDb', 0.001, 60, 'dB');
     this.timeoutMs = finiteIn(opts.timeoutMs, 'SettleDetector.timeoutMs', 1, 1e9, 'ms');
+    this.trendDb = finiteIn(opts.trendDb ?? this.toleranceDb / 2, 'SettleDetector.trendDb', 0.001, 60, 'dB');
   }
 
   /**
@@ -90,8 +98,14 @@ export class SettleDetector {
     const meanDbm = mwToDbm(w.reduce((s, x) => s + dbmToMw(x), 0) / w.length);
     const spreadDb = Math.max(...w) - Math.min(...w);
     // A hair of slack so that readings exactly on the band edge count as inside despite rounding.
+    const half = Math.floor(w.length / 2);
+    let drift = 0;
+    for (let i = 0; i < half; i++) drift += w[w.length - 1 - i] - w[i];
+    drift = half > 0 ? Math.abs(drift) / half : 0;
     const settled =
-      w.length === this.windowCount && w.every((x) => Math.abs(x - meanDbm) <= this.toleranceDb + 1e-9);
+      w.length === this.windowCount &&
+      w.every((x) => Math.abs(x - meanDbm) <= this.toleranceDb + 1e-9) &&
+      drift <= this.trendDb + 1e-9;
     const timedOut = !settled && tMs - (this.startMs ?? tMs) >= this.timeoutMs;
     return { settled, timedOut, meanDbm, spreadDb, count: w.length };
   }

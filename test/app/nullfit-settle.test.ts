@@ -28,6 +28,20 @@ describe('SettleDetector', () => {
     assert.ok(Math.abs(states[first].meanDbm - -72) < 0.5, `settled at ${states[first].meanDbm} dBm`);
   });
 
+  it('is not fooled by a slow decay that stays inside the tolerance band: the drift test holds it back', () => {
+    // A meter decaying 0.3 dB per reading towards a deep null: every window of 8 readings spans 2.1 dB,
+    // inside ±1.3 dB of its (power) mean, yet the level is still falling.
+    const d = new SettleDetector({ windowCount: 8, toleranceDb: 1.3, timeoutMs: 60_000 });
+    const states = Array.from({ length: 30 }, (_, k) => d.push(-60 - 0.3 * k, k * 40));
+    assert.ok(
+      states.every((s) => !s.settled),
+      'never settled while drifting',
+    );
+    const loose = new SettleDetector({ windowCount: 8, toleranceDb: 1.3, timeoutMs: 60_000, trendDb: 5 });
+    const last = Array.from({ length: 30 }, (_, k) => loose.push(-60 - 0.3 * k, k * 40)).pop();
+    assert.equal(last?.settled, true, 'without the drift test the same readings pass');
+  });
+
   it('flags a timeout when the level never settles, and keeps reporting the window', () => {
     const d = new SettleDetector({ windowCount: 3, toleranceDb: 0.1, timeoutMs: 1000 });
     let s = d.push(-50, 0);
