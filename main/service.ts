@@ -204,11 +204,21 @@ export class Service {
       intervalMs,
       initialTrims: last?.trims,
     });
+    // The link state (fault, then reading again) reaches the UI through status events.
+    let faulted = false;
     live.on('reading', (r) => {
       this.emit('reading', r);
+      if (faulted) {
+        faulted = false;
+        this.emit('status', this.status());
+      }
       if (r.overload) this.warnOverload(r.dbmRx, session);
     });
-    live.on('error', (e) => this.emit('notice', { level: 'error', code: e.code, message: e.message }));
+    live.on('error', (e) => {
+      this.emit('notice', { level: 'error', code: e.code, message: e.message });
+      faulted = true;
+      this.emit('status', this.status());
+    });
     live.on('state', () => this.emit('status', this.status()));
     this.live = live;
     try {

@@ -4,6 +4,7 @@ import type { Session, Status } from '../app/api';
 import { connect } from './api';
 import { $, h } from './dom';
 import { BenchView } from './views/bench';
+import { showReceiversDialog } from './views/receivers';
 import { showSessionsDialog } from './views/sessions';
 import { when } from './format';
 
@@ -41,13 +42,19 @@ api.listen('status', (s) => {
   showLink(s);
   view.onStatus(s);
 });
-api.listen('progress', (p) => view.onProgress(p.done, p.total, p.message));
+api.listen('progress', (p) =>
+  p.task.startsWith('plan:') ? view.plan.onProgress(p) : view.onProgress(p.done, p.total, p.message),
+);
 api.listen('notice', (n) => notify(n.level, n.message));
 
 $('#btn-sessions').addEventListener('click', () => {
   void showSessionsDialog({ api, onOpened: (s) => void opened(s) }, true).catch((e: Error) =>
     notify('error', e.message),
   );
+});
+
+$('#btn-receivers').addEventListener('click', () => {
+  void showReceiversDialog(api, notify).catch((e: Error) => notify('error', e.message));
 });
 
 document.addEventListener('keydown', (e) => {

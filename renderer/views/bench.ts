@@ -14,6 +14,7 @@ import { formatPath, validatePath } from '../../app/path';
 import { NullChart, StripChart } from '../charts';
 import { clear, h } from '../dom';
 import { dbm, mhz, signed, sUnits } from '../format';
+import { PlanPanel } from './plan';
 
 const ROLES: PointRole[] = ['carrier', 'upper', 'lower', 'imd3u', 'imd3l', 'reference', 'floor'];
 
@@ -35,7 +36,11 @@ export class BenchView {
     private readonly notify: (level: 'info' | 'warn' | 'error', msg: string) => void,
   ) {
     this.root = root;
+    this.plan = new PlanPanel(api, notify);
   }
+
+  /** The frequency-stepped plan panel (its own file: views/plan.ts). */
+  readonly plan: PlanPanel;
 
   async open(session: Session): Promise<void> {
     this.session = session;
@@ -333,7 +338,7 @@ export class BenchView {
       h(
         'div',
         { class: 'grid' },
-        h('div', { class: 'stack' }, levelCard, nullCard, keptCard),
+        h('div', { class: 'stack' }, levelCard, nullCard, keptCard, this.plan.element(s)),
         h('div', { class: 'stack' }, trimCard, roleCard, sweepCard, setup),
       ),
     );

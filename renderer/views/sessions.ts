@@ -2,6 +2,7 @@
 // unit, receiver, path, power) in one form. The set-up is checked by the service, which refuses unsafe ones.
 import type { ServiceClient, Session, SessionSummary, Tree } from '../../app/api';
 import { formatPath, parsePathSpec } from '../../app/path';
+import type { StoredReceiver } from '../../app/receiver';
 import { ApiError } from '../api';
 import { h } from '../dom';
 import { dbm, when } from '../format';
@@ -151,6 +152,26 @@ function newSessionForm(tree: Tree, deps: SessionsDialogDeps, close: () => void)
   const tone = input('tone', '1000', { inputmode: 'decimal' });
   const bw = input('bandwidth', '500', { inputmode: 'decimal' });
   const maxIn = input('maxin', '10', { inputmode: 'decimal' });
+  // A stored receiver profile fills in the link, bandwidth and rated maximum, and brings its calibration.
+  let profile: StoredReceiver | null = null;
+  const profiles = h(
+    'select',
+    { name: 'receiver-profile' },
+    h('option', { value: '' }, 'none: type the link'),
+  );
+  void api
+    .call('listReceivers', {})
+    .then((list) => {
+      for (const r of list) profiles.append(h('option', { value: r.id }, r.name));
+      profiles.addEventListener('change', () => {
+        profile = list.find((r) => r.id === profiles.value) ?? null;
+        if (!profile) return;
+        source.value = profile.source;
+        bw.value = String(profile.bandwidthHz);
+        maxIn.value = String(profile.maxInputDbm);
+      });
+    })
+    .catch(() => undefined);
   const operator = input('operator', '');
   // The trimmers the builder will turn: names and units are theirs; B may be left empty for a one-trimmer board.
   const trimRows = [
@@ -198,6 +219,7 @@ function newSessionForm(tree: Tree, deps: SessionsDialogDeps, close: () => void)
     field('Design', designs),
     field('Board revision', revision),
     field('Unit serial', serial),
+    field('Stored receiver', profiles),
     field('Receiver source', source, 'two-col'),
     field('Receiver bandwidth (Hz)', bw),
     field('Signal path, transmitter → receiver', path, 'two-col'),
@@ -253,12 +275,18 @@ function newSessionForm(tree: Tree, deps: SessionsDialogDeps, close: () => void)
           r = { ...(await api.call('createRevision', { designId: d.id, name: revision.value })), units: [] };
         let u = r.units.find((x) => x.serial === serial.value.trim());
         if (!u) u = await api.call('createUnit', { revisionId: r.id, serial: serial.value });
+        const fromProfile = profile !== null && profile.source === source.value.trim();
         const s = await api.call('createSession', {
           unitId: u.id,
           receiver: {
-            name: source.value === 'sim' ? 'Simulated bench receiver' : source.value,
+            name: fromProfile
+              ? profile!.name
+              : source.value === 'sim'
+                ? 'Simulated bench receiver'
+                : source.value,
             source: source.value,
-            calibration: null,
+            calibration: fromProfile ? profile!.calibration : null,
+            ...(fromProfile && profile!.template ? { template: profile!.template } : {}),
             bandwidthHz: num(bw, 'Receiver bandwidth'),
             maxInputDbm: num(maxIn, 'Receiver rated max input'),
           },
