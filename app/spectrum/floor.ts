@@ -44,11 +44,9 @@ export function floorBetween(
   maxBins = Infinity,
 ): FloorEstimate {
   const n = power.length;
-  check(
-    Number.isInteger(lo) && Number.isInteger(hi) && hi >= lo,
-    'floor.range',
-    `bad bin range ${lo}..${hi}`,
-  );
+  // Called many times per frame: no message is built unless the check fails.
+  if (!(Number.isInteger(lo) && Number.isInteger(hi) && hi >= lo))
+    check(false, 'floor.range', `bad bin range ${lo}..${hi}`);
   if (hi - lo + 1 > n) {
     lo = -Math.floor(n / 2);
     hi = lo + n - 1;
@@ -60,9 +58,12 @@ export function floorBetween(
   }
   excluded.fill(0, 0, len);
   for (const z of zones) {
-    for (let k = Math.ceil(z.center - z.halfWidth); k <= z.center + z.halfWidth; k++) {
-      const at = (((k - lo) % n) + n) % n;
+    const first = Math.ceil(z.center - z.halfWidth);
+    const count = Math.floor(z.center + z.halfWidth) - first + 1;
+    let at = (((first - lo) % n) + n) % n;
+    for (let i = 0; i < count; i++) {
       if (at < len) excluded[at] = 1;
+      if (++at === n) at = 0;
     }
   }
   const step = Math.max(1, Math.ceil(len / maxBins));

@@ -104,7 +104,7 @@ const SSB_DOMINANCE_DB = 10;
 /** False-alarm probability for one component read as seen when only noise is there. */
 const FALSE_ALARM = 1e-3;
 /** The span's floor is a median over at most this many bins (evenly spread). */
-const SPAN_FLOOR_BINS = 2048;
+const SPAN_FLOOR_BINS = 1024;
 /** A bound this close to the value (dB) is reported as a value. */
 const NEGLIGIBLE_DB = 0.05;
 
@@ -193,8 +193,18 @@ export function measureSpectrum(spectrum: AveragedSpectrum, params: TwoToneParam
       z.push({ center: carrierBin + o * spacing, halfWidth: guard });
     return z;
   };
-  const localFloor = (bin: number, zones: Zone[]): number =>
-    floorBetween(power, averages, Math.round(bin) - wide, Math.round(bin) + wide, zones, scale).mean;
+  // Keyed by the nearest bin: the sidebands' floors, taken before the carrier is placed exactly, serve
+  // again afterwards (the zones then move by a fraction of a bin at most).
+  const floors = new Map<number, number>();
+  const localFloor = (bin: number, zones: Zone[]): number => {
+    const k = Math.round(bin);
+    let f = floors.get(k);
+    if (f === undefined) {
+      f = floorBetween(power, averages, k - wide, k + wide, zones, scale).mean;
+      floors.set(k, f);
+    }
+    return f;
+  };
 
   // 1. The sidebands: the strongest bin where each is expected. A searched peak is the largest of
   // several noise bins, so it must clear a higher bar to count as seen.
@@ -203,7 +213,11 @@ export function measureSpectrum(spectrum: AveragedSpectrum, params: TwoToneParam
   const searchThreshold = Math.max(threshold, noiseExceedance(averages, FALSE_ALARM / (2 * search + 1)));
   const upPeak = findPeak(power, window, carrier0 + toneBins, search);
   const loPeak = findPeak(power, window, carrier0 - toneBins, search);
-  const zones0 = zonesFor(carrier0, toneBins);
+  const zones0 = [
+    ...zonesFor(carrier0, toneBins),
+    { center: upPeak.bin, halfWidth: guard },
+    { center: loPeak.bin, halfWidth: guard },
+  ];
   const upSeen = upPeak.binPower * scale >= searchThreshold * localFloor(upPeak.bin, zones0);
   const loSeen = loPeak.binPower * scale >= searchThreshold * localFloor(loPeak.bin, zones0);
 

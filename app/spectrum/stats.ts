@@ -83,9 +83,9 @@ function checkAverages(k: number): void {
 
 /** Mean / median of the average of k noise-only power bins: multiply a median floor by this. */
 export function medianToMean(k: number): number {
-  checkAverages(k);
   let r = medianCache.get(k);
   if (r === undefined) {
+    checkAverages(k);
     r = 1 / tailQuantile(0.5, k);
     medianCache.set(k, r);
   }
@@ -97,11 +97,11 @@ export function medianToMean(k: number): number {
  * with probability p. A component must stand above it to count as seen rather than noise.
  */
 export function noiseExceedance(k: number, p: number): number {
-  checkAverages(k);
-  check(p > 0 && p < 1, 'probability', `must be between 0 and 1, got ${String(p)}`);
   const key = `${k}:${p}`;
   let r = thresholdCache.get(key);
   if (r === undefined) {
+    checkAverages(k);
+    check(p > 0 && p < 1, 'probability', `must be between 0 and 1, got ${String(p)}`);
     r = tailQuantile(p, k);
     thresholdCache.set(key, r);
   }
