@@ -43,6 +43,8 @@ class HttpClient implements ServiceClient {
     } catch {
       throw new ApiError('EIO', 'the Nullbench server does not answer: is it still running?');
     }
+    // A networked server with access control: this browser has not signed in (or its session ran out).
+    if (res.status === 401) location.assign('/login');
     const body = (await res.json().catch(() => null)) as CallResult<unknown> | null;
     if (!body) throw new ApiError('EPROTO', `the server answered HTTP ${res.status} without a result`);
     return unwrap<CallResults[K]>(body);

@@ -1,11 +1,15 @@
 // Runs in Node. The local web shell: serves the renderer and the service over HTTP (calls) and
-// server-sent events (live readings), bound to 127.0.0.1 unless told otherwise.
+// server-sent events (live readings), bound to 127.0.0.1 unless told otherwise. On any other address it
+// refuses to start without access control: an access token, exchanged for a session cookie at sign-in.
 import { createServer, type IncomingMessage, type Server, type ServerResponse } from 'node:http';
-import { readFile, stat } from 'node:fs/promises';
+import { readFile, realpath, stat } from 'node:fs/promises';
 import { extname, join, normalize, resolve, sep } from 'node:path';
 import { EVENTS } from '../../app/api';
+import { BenchError } from '../../app/errors';
 import type { Service } from '../service';
 import { rendererDir } from '../paths';
+import { clearedCookie, isLoopback, sessionCookie, type WebAccess } from './access';
+import { LOGIN_HTML, LOGIN_JS } from './login';
 
 export interface WebOptions {
   service: Service;
@@ -13,6 +17,13 @@ export interface WebOptions {
   host?: string;
   /** Folder of the built renderer (index.html, app.js, app.css). */
   staticDir?: string;
+  /**
+   * Who may use the server. Required on any address other than loopback; may be given on loopback too.
+   * Without it, every local program may call the service (as with any local desktop app).
+   */
+  access?: WebAccess | null;
+  /** More names this server answers to (e.g. its LAN name "bench.lan"), beyond loopback and the bound address. */
+  allowedHosts?: string[];
 }
 
 const TYPES: Record<string, string> = {
@@ -30,56 +41,92 @@ export const CSP =
   "default-src 'self'; script-src 'self'; style-src 'self'; img-src 'self' data:; connect-src 'self'; " +
   "object-src 'none'; base-uri 'none'; frame-ancestors 'none'; form-action 'none'";
 
+/** Headers on every response, whatever it is: no framing, no sniffing, no referrer, the CSP. */
+const COMMON_HEADERS = {
+  'Cache-Control': 'no-store',
+  'X-Content-Type-Options': 'nosniff',
+  'X-Frame-Options': 'DENY',
+  'Referrer-Policy': 'no-referrer',
+  'Cross-Origin-Opener-Policy': 'same-origin',
+  'Cross-Origin-Resource-Policy': 'same-origin',
+  'Content-Security-Policy': CSP,
+};
+
 const MAX_BODY = 2 * 1024 * 1024;
+
+/** Listening on every interface: no browser ever names these in Host. */
+const WILDCARDS = new Set(['0.0.0.0', '::', '[::]']);
+
+/** Served without signing in when access control is on: the sign-in page and what it needs to show. */
+const PUBLIC_PATHS = new Set(['/login', '/login.js', '/style.css', '/icon.svg']);
 
 function send(
   res: ServerResponse,
   status: number,
   body: string,
   type = 'application/json; charset=utf-8',
+  extra: Record<string, string> = {},
 ): void {
-  res.writeHead(status, {
-    'Content-Type': type,
-    'Cache-Control': 'no-store',
-    'X-Content-Type-Options': 'nosniff',
-    'Referrer-Policy': 'no-referrer',
-    'Content-Security-Policy': CSP,
-  });
+  res.writeHead(status, { ...COMMON_HEADERS, 'Content-Type': type, ...extra });
   res.end(body);
 }
 
+function fail(res: ServerResponse, status: number, code: string, message: string, extra = {}): void {
+  send(res, status, JSON.stringify({ ok: false, code, message }), undefined, extra);
+}
+
+class BodyTooLarge extends Error {}
+
 function readBody(req: IncomingMessage): Promise<string> {
-  return new Promise((ok, fail) => {
+  return new Promise((ok, bad) => {
     let size = 0;
     const chunks: Buffer[] = [];
     req.on('data', (c: Buffer) => {
       size += c.length;
       if (size > MAX_BODY) {
-        fail(new Error('request body too large'));
-        req.destroy();
+        bad(new BodyTooLarge(`request body over ${MAX_BODY} bytes`));
+        req.pause();
       } else chunks.push(c);
     });
     req.on('end', () => ok(Buffer.concat(chunks).toString('utf8')));
-    req.on('error', fail);
+    req.on('error', bad);
   });
 }
 
 export class WebShell {
   readonly server: Server;
-  private readonly opts: Required<WebOptions>;
+  private readonly opts: Required<Omit<WebOptions, 'access'>>;
+  private readonly access: WebAccess | null;
   private readonly root: string;
   private clients = new Set<ServerResponse>();
   private unsubs: (() => void)[] = [];
 
   constructor(opts: WebOptions) {
-    this.opts = { ...opts, host: opts.host ?? '127.0.0.1', staticDir: opts.staticDir ?? rendererDir() };
+    this.opts = {
+      ...opts,
+      host: opts.host ?? '127.0.0.1',
+      staticDir: opts.staticDir ?? rendererDir(),
+      allowedHosts: opts.allowedHosts ?? [],
+    };
+    this.access = opts.access ?? null;
+    if (!isLoopback(this.opts.host) && !this.access) {
+      throw new BenchError(
+        'EUNSAFE',
+        `refusing to listen on ${this.opts.host} without an access token: anyone on that network could drive this bench`,
+        'host',
+      );
+    }
     this.root = resolve(this.opts.staticDir);
     this.server = createServer((req, res) => {
       this.handle(req, res).catch((e: unknown) => {
-        if (!res.headersSent) send(res, 500, JSON.stringify({ ok: false, code: 'EIO', message: String(e) }));
+        if (!res.headersSent) fail(res, 500, 'EIO', e instanceof Error ? e.message : String(e));
         else res.end();
       });
     });
+    // A client that dribbles its headers or body does not hold a connection for long.
+    this.server.headersTimeout = 10_000;
+    this.server.requestTimeout = 30_000;
+    this.server.maxHeadersCount = 64;
     for (const ev of EVENTS) {
       this.unsubs.push(
         this.opts.service.listen(ev, (payload) => {
@@ -92,16 +139,20 @@ export class WebShell {
 
   /** Starts listening; resolves with the URL (port 0 picks a free port). */
   listen(): Promise<string> {
-    return new Promise((ok, fail) => {
-      this.server.once('error', fail);
+    return new Promise((ok, bad) => {
+      this.server.once('error', bad);
       this.server.listen(this.opts.port, this.opts.host, () => ok(this.url));
     });
   }
 
-  get url(): string {
+  get port(): number {
     const a = this.server.address();
-    const port = a && typeof a === 'object' ? a.port : this.opts.port;
-    return `http://${this.opts.host}:${port}/`;
+    return a && typeof a === 'object' ? a.port : this.opts.port;
+  }
+
+  get url(): string {
+    const h = this.opts.host.includes(':') ? `[${this.opts.host}]` : this.opts.host;
+    return `http://${h}:${this.port}/`;
   }
 
   async close(): Promise<void> {
@@ -111,102 +162,163 @@ export class WebShell {
     await new Promise<void>((ok) => this.server.close(() => ok()));
   }
 
-  /** Host must name this server (defeats DNS rebinding); a cross-site page may not call us. */
-  private allowed(req: IncomingMessage): string | null {
-    const a = this.server.address();
-    const port = a && typeof a === 'object' ? a.port : this.opts.port;
+  /** host:port pairs this server answers to; anything else is a rebinding attempt or a mistake. */
+  private hosts(): Set<string> {
+    const bound = WILDCARDS.has(this.opts.host) ? [] : [this.opts.host];
+    const names = ['127.0.0.1', 'localhost', '[::1]', ...bound, ...this.opts.allowedHosts];
+    return new Set(
+      names.map((n) => {
+        const h = n.toLowerCase();
+        return `${h.includes(':') && !h.startsWith('[') ? `[${h}]` : h}:${this.port}`;
+      }),
+    );
+  }
+
+  /** Host must name this server (defeats DNS rebinding); a page of another site may not call us. */
+  private refused(req: IncomingMessage, isApi: boolean): string | null {
+    const ok = this.hosts();
     const host = (req.headers.host ?? '').toLowerCase();
-    const okHosts = new Set([
-      `127.0.0.1:${port}`,
-      `localhost:${port}`,
-      `[::1]:${port}`,
-      `${this.opts.host}:${port}`,
-    ]);
-    if (!okHosts.has(host)) return `Host "${host}" is not this server`;
+    if (!ok.has(host)) return host ? `Host "${host}" is not this server` : 'a Host header is required';
     const origin = req.headers.origin;
-    if (origin !== undefined && origin !== 'null') {
-      try {
-        if (!okHosts.has(new URL(origin).host.toLowerCase()))
+    if (origin !== undefined) {
+      if (origin === 'null') {
+        if (req.method !== 'GET' && req.method !== 'HEAD')
+          return 'a request from an opaque origin is refused';
+      } else {
+        let u: URL;
+        try {
+          u = new URL(origin);
+        } catch {
+          return 'malformed Origin header';
+        }
+        if (u.protocol !== 'http:' || !ok.has(u.host.toLowerCase()))
           return `cross-origin request from ${origin} refused`;
-      } catch {
-        return 'malformed Origin header';
       }
-    } else if (origin === 'null' && req.method !== 'GET') return 'opaque origin refused';
+    }
+    // Fetch metadata: a browser says when another site made the request, even where Origin is absent.
+    const site = req.headers['sec-fetch-site'];
+    if (isApi && (site === 'cross-site' || site === 'same-site'))
+      return `a ${site} request to the API is refused`;
     return null;
   }
 
   private async handle(req: IncomingMessage, res: ServerResponse): Promise<void> {
-    const denied = this.allowed(req);
-    if (denied) return send(res, 403, JSON.stringify({ ok: false, code: 'EREJECTED', message: denied }));
-    const url = new URL(req.url ?? '/', 'http://localhost');
-    if (url.pathname.startsWith('/api/call/')) {
-      if (req.method !== 'POST')
-        return send(res, 405, JSON.stringify({ ok: false, code: 'EINVAL', message: 'use POST' }));
-      if (!(req.headers['content-type'] ?? '').startsWith('application/json'))
-        return send(
-          res,
-          415,
-          JSON.stringify({ ok: false, code: 'EINVAL', message: 'Content-Type must be application/json' }),
-        );
+    let url: URL;
+    try {
+      url = new URL(req.url ?? '/', 'http://localhost');
+    } catch {
+      return fail(res, 400, 'EINVAL', 'malformed request target');
+    }
+    const path = url.pathname;
+    const isApi = path.startsWith('/api/');
+    const denied = this.refused(req, isApi);
+    if (denied) return fail(res, 403, 'EREJECTED', denied);
+
+    if (path === '/api/login' && this.access) return this.login(req, res);
+    if (path === '/api/logout' && this.access) {
+      if (req.method !== 'POST') return fail(res, 405, 'EINVAL', 'use POST', { Allow: 'POST' });
+      this.access.logout(req);
+      return send(res, 204, '', undefined, { 'Set-Cookie': clearedCookie() });
+    }
+    if (this.access && !PUBLIC_PATHS.has(path) && !this.access.allows(req)) {
+      if (
+        !isApi &&
+        (req.method === 'GET' || req.method === 'HEAD') &&
+        (path === '/' || path === '/index.html')
+      )
+        return send(res, 303, '', 'text/plain; charset=utf-8', { Location: '/login' });
+      return fail(res, 401, 'EREJECTED', 'sign in first: open /login and enter the access token');
+    }
+
+    if (path.startsWith('/api/call/')) {
+      if (req.method !== 'POST') return fail(res, 405, 'EINVAL', 'use POST', { Allow: 'POST' });
+      // JSON only: a cross-site form cannot send it without a preflight, which this server never grants.
+      if (!/^application\/json\s*(;|$)/i.test(req.headers['content-type'] ?? ''))
+        return fail(res, 415, 'EINVAL', 'Content-Type must be application/json');
       let args: unknown;
       try {
         const body = await readBody(req);
         args = body.trim() === '' ? {} : JSON.parse(body);
       } catch (e) {
-        return send(
-          res,
-          400,
-          JSON.stringify({ ok: false, code: 'EINVAL', message: `request body: ${(e as Error).message}` }),
-        );
+        if (e instanceof BodyTooLarge) return fail(res, 413, 'EINVAL', e.message, { Connection: 'close' });
+        return fail(res, 400, 'EINVAL', `request body: ${(e as Error).message}`);
       }
-      const result = await this.opts.service.call(
-        decodeURIComponent(url.pathname.slice('/api/call/'.length)),
-        args,
-      );
+      let name: string;
+      try {
+        name = decodeURIComponent(path.slice('/api/call/'.length));
+      } catch {
+        return fail(res, 400, 'EINVAL', 'malformed call name');
+      }
+      const result = await this.opts.service.call(name, args);
       return send(res, 200, JSON.stringify(result));
     }
-    if (url.pathname === '/api/events') {
+    if (path === '/api/events') {
+      if (req.method !== 'GET') return fail(res, 405, 'EINVAL', 'use GET', { Allow: 'GET' });
       res.writeHead(200, {
+        ...COMMON_HEADERS,
         'Content-Type': 'text/event-stream',
-        'Cache-Control': 'no-store',
         Connection: 'keep-alive',
-        'X-Content-Type-Options': 'nosniff',
       });
       res.write(`event: status\ndata: ${JSON.stringify(this.opts.service.status())}\n\n`);
       this.clients.add(res);
       req.on('close', () => this.clients.delete(res));
       return;
     }
+    if (isApi) return fail(res, 404, 'ENOTFOUND', `no API endpoint ${path}`);
     if (req.method !== 'GET' && req.method !== 'HEAD')
-      return send(res, 405, '{"ok":false,"code":"EINVAL","message":"method not allowed"}');
-    return this.serveStatic(url.pathname, res);
+      return fail(res, 405, 'EINVAL', 'method not allowed', { Allow: 'GET, HEAD' });
+    if (this.access && path === '/login') return send(res, 200, LOGIN_HTML, TYPES['.html']);
+    if (this.access && path === '/login.js') return send(res, 200, LOGIN_JS, TYPES['.js']);
+    return this.serveStatic(path, res);
+  }
+
+  private async login(req: IncomingMessage, res: ServerResponse): Promise<void> {
+    const access = this.access!;
+    if (req.method !== 'POST') return fail(res, 405, 'EINVAL', 'use POST', { Allow: 'POST' });
+    if (!/^application\/json\s*(;|$)/i.test(req.headers['content-type'] ?? ''))
+      return fail(res, 415, 'EINVAL', 'Content-Type must be application/json');
+    let token: unknown;
+    try {
+      token = (JSON.parse(await readBody(req)) as { token?: unknown } | null)?.token;
+    } catch {
+      return fail(res, 400, 'EINVAL', 'expected {"token": "nbt_..."}');
+    }
+    const r = access.login(token, req.socket.remoteAddress ?? 'unknown');
+    if (!r.ok) {
+      const extra: Record<string, string> = r.retryAfterS ? { 'Retry-After': String(r.retryAfterS) } : {};
+      return fail(res, r.status, 'EREJECTED', r.message, extra);
+    }
+    return send(res, 204, '', undefined, { 'Set-Cookie': sessionCookie(r.cookie) });
   }
 
   private async serveStatic(pathname: string, res: ServerResponse): Promise<void> {
+    const notFound = () => send(res, 404, 'not found', 'text/plain; charset=utf-8');
     let rel: string;
     try {
       rel = decodeURIComponent(pathname);
     } catch {
       return send(res, 400, 'bad path', 'text/plain; charset=utf-8');
     }
-    if (rel.includes('\0')) return send(res, 400, 'bad path', 'text/plain; charset=utf-8');
+    if (rel.includes('\0') || rel.includes('\\'))
+      return send(res, 400, 'bad path', 'text/plain; charset=utf-8');
     if (rel === '/' || rel === '') rel = '/index.html';
     const file = resolve(join(this.root, normalize(rel)));
-    if (file !== this.root && !file.startsWith(this.root + sep))
-      return send(res, 404, 'not found', 'text/plain; charset=utf-8');
+    if (!file.startsWith(this.root + sep)) return notFound();
     try {
-      const st = await stat(file);
-      if (!st.isFile()) return send(res, 404, 'not found', 'text/plain; charset=utf-8');
-      const body = await readFile(file);
+      // A link inside the folder may not lead out of it either.
+      const [real, realRoot] = await Promise.all([realpath(file), realpath(this.root)]);
+      if (!real.startsWith(realRoot + sep)) return notFound();
+      const st = await stat(real);
+      if (!st.isFile()) return notFound();
+      const body = await readFile(real);
       res.writeHead(200, {
-        'Content-Type': TYPES[extname(file)] ?? 'application/octet-stream',
+        ...COMMON_HEADERS,
+        'Content-Type': TYPES[extname(real)] ?? 'application/octet-stream',
         'Cache-Control': 'no-cache',
-        'X-Content-Type-Options': 'nosniff',
-        'Content-Security-Policy': CSP,
       });
       res.end(body);
     } catch {
-      send(res, 404, 'not found', 'text/plain; charset=utf-8');
+      notFound();
     }
   }
 }

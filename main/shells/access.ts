@@ -1,0 +1,194 @@
+// Runs in Node. Who may use the web mode when it listens on a network: one access token (256 random bits,
+// shown once when issued, stored only as its SHA-256), exchanged for a session cookie by the sign-in page.
+// A fast hash is right here: the token is random, not a password a person chose, so no guessing list exists.
+import { createHash, randomBytes, timingSafeEqual } from 'node:crypto';
+import type { IncomingMessage } from 'node:http';
+import { BenchError } from '../../app/errors';
+import type { Db } from '../store/db';
+
+/** Prefix of every token, so a user (or a secret scanner) can tell what the string is. */
+export const TOKEN_PREFIX = 'nbt_';
+const TOKEN_TEXT = /^nbt_[A-Za-z0-9_-]{43}$/;
+
+export const COOKIE_NAME = 'nullbench_session';
+/** A browser session lasts this long from sign-in, ms (a long bench evening). */
+export const SESSION_MS = 12 * 3600_000;
+/** Failed sign-ins allowed per client address within FAIL_WINDOW_MS before it has to wait. */
+export const MAX_FAILURES = 10;
+export const FAIL_WINDOW_MS = 5 * 60_000;
+
+function sha256(text: string): Buffer {
+  return createHash('sha256').update(text, 'utf8').digest();
+}
+
+export interface TokenInfo {
+  id: number;
+  label: string;
+  createdAt: string;
+  lastUsedAt: string | null;
+}
+
+/** The tokens table (migration 004): hashes only; the token itself exists in clear only when issued. */
+export class AccessTokens {
+  constructor(private readonly db: Db) {
+    const t = db
+      .prepare("SELECT name FROM sqlite_master WHERE type = 'table' AND name = 'access_tokens'")
+      .get();
+    if (!t)
+      throw new BenchError('ENAVAIL', 'this database has no access_tokens table (schema 4)', 'database');
+  }
+
+  /** Revokes every active token and issues a new one; returns its text, the only time it is seen. */
+  issue(label = 'web mode'): string {
+    const token = TOKEN_PREFIX + randomBytes(32).toString('base64url');
+    const now = new Date().toISOString();
+    this.db.transaction(() => {
+      this.db.prepare('UPDATE access_tokens SET revoked_at = ? WHERE revoked_at IS NULL').run(now);
+      this.db
+        .prepare('INSERT INTO access_tokens (hash, label, created_at) VALUES (?, ?, ?)')
+        .run(sha256(token).toString('hex'), label, now);
+    })();
+    return token;
+  }
+
+  /** The active token's record (never its text), or null when none has been issued. */
+  active(): TokenInfo | null {
+    const r = this.db
+      .prepare(
+        `SELECT id, label, created_at AS createdAt, last_used_at AS lastUsedAt FROM access_tokens
+         WHERE revoked_at IS NULL ORDER BY id DESC LIMIT 1`,
+      )
+      .get() as TokenInfo | undefined;
+    return r ?? null;
+  }
+
+  /** True when `token` is the active token. Compares hashes in constant time. */
+  verify(token: unknown): boolean {
+    if (typeof token !== 'string' || !TOKEN_TEXT.test(token)) return false;
+    const given = sha256(token);
+    const rows = this.db.prepare('SELECT id, hash FROM access_tokens WHERE revoked_at IS NULL').all() as {
+      id: number;
+      hash: string;
+    }[];
+    for (const r of rows) {
+      const stored = Buffer.from(r.hash, 'hex');
+      if (stored.length === given.length && timingSafeEqual(stored, given)) {
+        this.db
+          .prepare('UPDATE access_tokens SET last_used_at = ? WHERE id = ?')
+          .run(new Date().toISOString(), r.id);
+        return true;
+      }
+    }
+    return false;
+  }
+
+  revokeAll(): number {
+    return this.db
+      .prepare('UPDATE access_tokens SET revoked_at = ? WHERE revoked_at IS NULL')
+      .run(new Date().toISOString()).changes;
+  }
+}
+
+export type LoginResult =
+  { ok: true; cookie: string } | { ok: false; status: 401 | 429; message: string; retryAfterS?: number };
+
+/**
+ * The gate in front of the web shell: signs browsers in (token -> cookie), checks each request's cookie or
+ * bearer token, and slows down a client that keeps guessing. Browser sessions live in memory only: a
+ * restarted server asks everyone to sign in again.
+ */
+export class WebAccess {
+  private readonly sessions = new Map<string, number>();
+  private readonly failures = new Map<string, number[]>();
+
+  constructor(
+    readonly tokens: AccessTokens,
+    private readonly clock: () => number = Date.now,
+  ) {}
+
+  login(token: unknown, client: string): LoginResult {
+    const now = this.clock();
+    const recent = (this.failures.get(client) ?? []).filter((t) => now - t < FAIL_WINDOW_MS);
+    if (recent.length >= MAX_FAILURES) {
+      this.failures.set(client, recent);
+      return {
+        ok: false,
+        status: 429,
+        message: `too many failed sign-ins from ${client}; wait a few minutes`,
+        retryAfterS: Math.ceil((FAIL_WINDOW_MS - (now - recent[0])) / 1000),
+      };
+    }
+    if (!this.tokens.verify(token)) {
+      recent.push(now);
+      // Old entries go, so a scan from many addresses cannot grow the table without end.
+      if (this.failures.size > 10_000) this.failures.clear();
+      this.failures.set(client, recent);
+      return { ok: false, status: 401, message: 'that is not the access token of this server' };
+    }
+    this.failures.delete(client);
+    this.prune(now);
+    const id = randomBytes(32).toString('base64url');
+    this.sessions.set(id, now + SESSION_MS);
+    return { ok: true, cookie: id };
+  }
+
+  logout(req: IncomingMessage): void {
+    const id = cookieOf(req);
+    if (id) this.sessions.delete(id);
+  }
+
+  /** True when the request carries a live session cookie or the active token as a bearer token. */
+  allows(req: IncomingMessage): boolean {
+    const id = cookieOf(req);
+    if (id) {
+      const until = this.sessions.get(id);
+      if (until !== undefined && until > this.clock()) return true;
+      if (until !== undefined) this.sessions.delete(id);
+    }
+    const auth = req.headers.authorization;
+    if (typeof auth === 'string' && auth.startsWith('Bearer '))
+      return this.tokens.verify(auth.slice(7).trim());
+    return false;
+  }
+
+  /** Ends every browser session (when the token is replaced). */
+  dropSessions(): void {
+    this.sessions.clear();
+  }
+
+  private prune(now: number): void {
+    for (const [id, until] of this.sessions) if (until <= now) this.sessions.delete(id);
+  }
+}
+
+/** The session cookie's value, when the request has exactly one well-formed one. */
+function cookieOf(req: IncomingMessage): string | null {
+  const header = req.headers.cookie;
+  if (!header) return null;
+  const found = header
+    .split(';')
+    .map((p) => p.trim())
+    .filter((p) => p.startsWith(`${COOKIE_NAME}=`))
+    .map((p) => p.slice(COOKIE_NAME.length + 1));
+  return found.length === 1 && /^[A-Za-z0-9_-]{43}$/.test(found[0]) ? found[0] : null;
+}
+
+/** The Set-Cookie header for a new session: not readable by scripts, never sent by another site. */
+export function sessionCookie(id: string): string {
+  return `${COOKIE_NAME}=${id}; HttpOnly; SameSite=Strict; Path=/; Max-Age=${SESSION_MS / 1000}`;
+}
+
+export function clearedCookie(): string {
+  return `${COOKIE_NAME}=; HttpOnly; SameSite=Strict; Path=/; Max-Age=0`;
+}
+
+/** True for addresses only this machine can reach: 127.0.0.0/8, ::1, localhost. */
+export function isLoopback(host: string): boolean {
+  const h = host
+    .trim()
+    .toLowerCase()
+    .replace(/^\[|\]$/g, '');
+  return (
+    h === 'localhost' || h === '::1' || /^127\.\d{1,3}\.\d{1,3}\.\d{1,3}$/.test(h) || h === '::ffff:127.0.0.1'
+  );
+}
