@@ -9,8 +9,6 @@ import { dsbGenerator, quantizeU8, type IqGenerator, type IqTuning } from './dsb
 const TUNER_TYPE = 5;
 /** Number of gain steps reported in the greeting. */
 const GAIN_COUNT = 29;
-/** In real-time pacing, samples older than this are dropped rather than sent late, s. */
-const MAX_LAG_S = 0.5;
 
 export interface IqServerOptions {
   /** TCP port on 127.0.0.1; 0 (default) picks a free one. */
@@ -27,6 +25,8 @@ export interface IqServerOptions {
   blockSamples?: number;
   /** Byte value of 0.0. Default 127.5. */
   zero?: number;
+  /** In real-time pacing, samples this many seconds late are dropped rather than sent. Default 0.5. */
+  maxLagSeconds?: number;
 }
 
 /** What the server has been told, for tests and the demo's status line. */
@@ -86,6 +86,7 @@ export class IqSimServer {
       pace: options.pace ?? 'realtime',
       blockSamples,
       zero: options.zero ?? 127.5,
+      maxLagSeconds: options.maxLagSeconds ?? 0.5,
     };
     const server = createServer();
     const port = await new Promise<number>((resolve, reject) => {
@@ -150,7 +151,7 @@ export class IqSimServer {
           const due = ((performance.now() - t0) / 1000) * this.state.sampleRate;
           // A client that fell behind loses samples, as with a real receiver whose buffer overflows;
           // the signal itself keeps running in real time.
-          if (due - (sent - sentAtT0) > MAX_LAG_S * this.state.sampleRate)
+          if (due - (sent - sentAtT0) > this.opts.maxLagSeconds * this.state.sampleRate)
             sent = sentAtT0 + Math.floor(due) - n;
           if (sent - sentAtT0 + n > due) {
             const waitMs = ((sent - sentAtT0 + n - due) / this.state.sampleRate) * 1000;
