@@ -6,6 +6,7 @@ import { $, h } from './dom';
 import { BenchView } from './views/bench';
 import { showReceiversDialog } from './views/receivers';
 import { showSessionsDialog } from './views/sessions';
+import { mountNav } from './views/nav';
 import { when } from './format';
 
 const api = connect();
@@ -62,7 +63,8 @@ document.addEventListener('keydown', (e) => {
   if (
     e.key.toLowerCase() === 'k' &&
     !['INPUT', 'TEXTAREA', 'SELECT'].includes(t.tagName) &&
-    !document.querySelector('.overlay')
+    !document.querySelector('.overlay') &&
+    !$('#app').hidden
   ) {
     e.preventDefault();
     void view.keep();
@@ -75,9 +77,15 @@ async function boot(): Promise<void> {
   if (status.activeSessionId) {
     await opened(await api.call('getSession', { sessionId: status.activeSessionId }));
     view.onStatus(status);
-  } else {
+  } else if (!$('#app').hidden) {
     await showSessionsDialog({ api, onOpened: (s) => void opened(s) }, false);
   }
 }
 
+mountNav({
+  api,
+  notify,
+  openSession: (s) => void opened(s),
+  showSessions: () => $('#btn-sessions').click(),
+});
 boot().catch((e: Error) => notify('error', `Could not start: ${e.message}`));

@@ -51,5 +51,5 @@ await Promise.all([
 cpSync('renderer/index.html', 'dist/renderer/index.html');
 cpSync('renderer/style.css', 'dist/renderer/style.css');
 cpSync('renderer/icon.svg', 'dist/renderer/icon.svg');
-// The test sheet's stylesheet: the app shows sheets with it, and PDFs inline it.
-cpSync('renderer/sheet.css', 'dist/renderer/sheet.css');
+// The test sheet's stylesheet (the app shows sheets with it; PDFs inline it) and the records views' own.
+for (const f of ['sheet.css', 'records.css']) cpSync(`renderer/${f}`, `dist/renderer/${f}`);
