@@ -3,7 +3,7 @@
 // The port is opened with the serialport package, which sets baud, data bits, parity and stop bits through
 // termios on Linux and macOS and through the comm API on Windows (COM ports), and reports an unplugged USB
 // adapter as a closed port, which we turn into EIO and a reconnect.
-import { SerialPort } from 'serialport';
+import type { SerialPort } from 'serialport';
 import { BenchError } from '../../app/errors';
 import {
   STANDARD_BAUDS,
@@ -103,13 +103,15 @@ export class SerialLink {
     return `the receiver on ${this.path}`;
   }
 
-  open(): Promise<void> {
+  async open(): Promise<void> {
     this.close();
     this.deadError = null;
     this.lines = [];
     this.partial = '';
     this.resync = false;
     const t = this.template;
+    // Loaded on first use: the native module is needed only when a serial receiver is read.
+    const { SerialPort } = await import('serialport');
     return new Promise((ok, fail) => {
       const port = new SerialPort({
         path: this.path,
