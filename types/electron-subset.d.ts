@@ -25,6 +25,8 @@ declare module 'electron' {
   }
   export interface WebFrameMain {
     url: string;
+    /** null for a window's main frame. */
+    parent: WebFrameMain | null;
   }
   export interface Event {
     preventDefault(): void;
@@ -32,7 +34,7 @@ declare module 'electron' {
   export interface WebContents {
     id: number;
     send(channel: string, ...args: unknown[]): void;
-    on(event: 'will-navigate', listener: (event: Event, url: string) => void): this;
+    on(event: 'will-navigate' | 'will-redirect', listener: (event: Event, url: string) => void): this;
     on(event: 'will-attach-webview', listener: (event: Event) => void): this;
     setWindowOpenHandler(handler: (details: { url: string }) => { action: 'deny' | 'allow' }): void;
     printToPDF(options: Record<string, unknown>): Promise<Buffer>;
@@ -65,6 +67,18 @@ declare module 'electron' {
     quit(): void;
     getPath(name: 'userData'): string;
     enableSandbox(): void;
+  };
+  export interface Session {
+    setPermissionRequestHandler(
+      handler:
+        ((webContents: WebContents, permission: string, callback: (granted: boolean) => void) => void) | null,
+    ): void;
+    setPermissionCheckHandler(
+      handler: ((webContents: WebContents | null, permission: string) => boolean) | null,
+    ): void;
+  }
+  export const session: {
+    defaultSession: Session;
   };
   export const dialog: {
     showErrorBox(title: string, content: string): void;

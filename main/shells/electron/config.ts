@@ -26,11 +26,14 @@ export function windowOptions(preloadDir: string): BrowserWindowConstructorOptio
   };
 }
 
-/** IPC channel names: one for calls, one per event; the preload exposes one function per message. */
-export const CALL_CHANNEL = 'nullbench:call';
-export const EVENT_CHANNEL_PREFIX = 'nullbench:event:';
+export { CALL_CHANNEL, EVENT_CHANNEL_PREFIX } from './channels';
 
-/** Only our own page, loaded from the app's files, may call the service. */
+/**
+ * Only our own page, loaded from the app's files, may call the service. The #fragment is the page's own
+ * view routing (renderer/views/nav.ts) and is ignored; anything else must match exactly.
+ */
 export function isTrustedSenderUrl(url: string | undefined, rendererIndexUrl: string): boolean {
-  return typeof url === 'string' && url === rendererIndexUrl;
+  if (typeof url !== 'string') return false;
+  const hash = url.indexOf('#');
+  return (hash < 0 ? url : url.slice(0, hash)) === rendererIndexUrl;
 }

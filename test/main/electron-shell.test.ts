@@ -1,0 +1,338 @@
+// The desktop shell's protections, each held by a test of its configuration and wiring. Electron itself is
+// not installed here: the wiring (wire.ts) runs against a fake Electron that records what the shell asks for.
+import { describe, it, beforeEach, afterEach } from 'node:test';
+import assert from 'node:assert/strict';
+import { readFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { pathToFileURL } from 'node:url';
+import { build } from 'esbuild';
+import type { IpcMainInvokeEvent, IpcRendererEvent, WebContents } from 'electron';
+import { EVENTS } from '../../app/api';
+import { Service } from '../../main/service';
+import { Store } from '../../main/store/store';
+import { makeBridge } from '../../main/shells/electron/bridge';
+import { BRIDGE_EVENTS, CALL_CHANNEL, EVENT_CHANNEL_PREFIX } from '../../main/shells/electron/channels';
+import { isTrustedSenderUrl, windowOptions } from '../../main/shells/electron/config';
+import { startDesktop, type ElectronApi } from '../../main/shells/electron/wire';
+import { CSP } from '../../main/shells/web';
+import { tempDb } from '../helpers/tmp';
+
+type Listener = (...args: unknown[]) => unknown;
+
+/** A WebContents that records its handlers, and an event object that records preventDefault(). */
+class FakeContents {
+  static next = 1;
+  readonly id = FakeContents.next++;
+  readonly handlers = new Map<string, Listener[]>();
+  windowOpenHandler: ((d: { url: string }) => { action: string }) | null = null;
+  sent: [string, unknown][] = [];
+  on(event: string, l: Listener) {
+    this.handlers.set(event, [...(this.handlers.get(event) ?? []), l]);
+    return this;
+  }
+  setWindowOpenHandler(h: (d: { url: string }) => { action: string }) {
+    this.windowOpenHandler = h;
+  }
+  send(channel: string, payload: unknown) {
+    this.sent.push([channel, payload]);
+  }
+  isDestroyed() {
+    return false;
+  }
+  /** Fires an event as Electron would; true when some handler prevented it. */
+  fire(event: string, ...args: unknown[]): boolean {
+    let prevented = false;
+    const ev = { preventDefault: () => (prevented = true) };
+    for (const l of this.handlers.get(event) ?? []) l(ev, ...args);
+    return prevented;
+  }
+}
+
+function fakeElectron() {
+  const log: string[] = [];
+  const appHandlers = new Map<string, Listener[]>();
+  const calls = new Map<string, Listener>();
+  const windows: { options: unknown; webContents: FakeContents; loaded: string | null }[] = [];
+  const perms: { request: Listener | null; check: Listener | null } = { request: null, check: null };
+  let ready: () => void = () => undefined;
+  const whenReady = new Promise<void>((r) => (ready = r));
+  const api = {
+    app: {
+      enableSandbox: () => log.push('enableSandbox'),
+      whenReady: () => {
+        log.push('whenReady');
+        return whenReady;
+      },
+      on: (event: string, l: Listener) => {
+        log.push(`app.on ${event}`);
+        appHandlers.set(event, [...(appHandlers.get(event) ?? []), l]);
+      },
+      quit: () => log.push('quit'),
+    },
+    BrowserWindow: class {
+      readonly webContents = new FakeContents();
+      loaded: string | null = null;
+      constructor(options: unknown) {
+        log.push('new BrowserWindow');
+        // Electron emits web-contents-created for every new contents.
+        for (const l of appHandlers.get('web-contents-created') ?? []) l({}, this.webContents);
+        windows.push({ options, webContents: this.webContents, loaded: null });
+      }
+      async loadFile(path: string) {
+        windows[windows.length - 1].loaded = path;
+      }
+      once() {
+        return this;
+      }
+      show() {}
+    },
+    ipcMain: {
+      handle: (channel: string, l: Listener) => {
+        log.push(`ipcMain.handle ${channel}`);
+        calls.set(channel, l);
+      },
+    },
+    dialog: { showErrorBox: () => log.push('showErrorBox') },
+    session: {
+      defaultSession: {
+        setPermissionRequestHandler: (h: Listener) => (perms.request = h),
+        setPermissionCheckHandler: (h: Listener) => (perms.check = h),
+      },
+    },
+  };
+  return { api: api as unknown as ElectronApi, log, appHandlers, calls, windows, perms, ready };
+}
+
+const INDEX = '/opt/nullbench/dist/renderer/index.html';
+const INDEX_URL = pathToFileURL(INDEX).href;
+
+describe('desktop shell: window configuration', () => {
+  it('isolates the page: context isolation, sandbox, no Node, web security on, no webview tag', () => {
+    const w = windowOptions('/opt/nullbench/dist/electron').webPreferences!;
+    assert.equal(w.contextIsolation, true);
+    assert.equal(w.sandbox, true);
+    assert.equal(w.nodeIntegration, false);
+    assert.equal(w.nodeIntegrationInWorker, false);
+    assert.equal(w.webSecurity, true);
+    assert.equal(w.allowRunningInsecureContent, false);
+    assert.equal(w.webviewTag, false);
+    assert.equal(w.preload, join('/opt/nullbench/dist/electron', 'preload.cjs'));
+  });
+
+  it('puts a Content Security Policy in the page: scripts and styles from the app only, no inline code, no eval', () => {
+    const html = readFileSync('renderer/index.html', 'utf8');
+    const meta = /<meta\s+http-equiv="Content-Security-Policy"\s+content="([^"]+)"/.exec(html);
+    assert.ok(meta, 'index.html has no CSP meta tag');
+    const policy = meta[1];
+    assert.match(policy, /default-src 'self'/);
+    assert.match(policy, /script-src 'self'(;|$)/);
+    assert.match(policy, /object-src 'none'/);
+    assert.match(policy, /base-uri 'none'/);
+    assert.doesNotMatch(policy, /unsafe-inline|unsafe-eval|\*/);
+    // The same policy as the web mode sends as a header (frame-ancestors only works as a header).
+    assert.equal(policy, CSP.replace(" frame-ancestors 'none';", ''));
+    assert.doesNotMatch(html, /<script(?![^>]*\bsrc=)[^>]*>/, 'an inline script');
+    assert.doesNotMatch(html, /\son[a-z]+=/i, 'an inline event handler');
+  });
+
+  it('trusts only its own page as a sender (its #view routes included), nothing else', () => {
+    assert.equal(isTrustedSenderUrl(INDEX_URL, INDEX_URL), true);
+    assert.equal(isTrustedSenderUrl(`${INDEX_URL}#records`, INDEX_URL), true);
+    for (const u of [
+      undefined,
+      '',
+      'https://attacker.example/',
+      `${INDEX_URL}?x=1`,
+      pathToFileURL('/tmp/index.html').href,
+      `${INDEX_URL}/../other.html`,
+      INDEX_URL.replace('file://', 'http://'),
+    ])
+      assert.equal(isTrustedSenderUrl(u, INDEX_URL), false, String(u));
+  });
+});
+
+describe('desktop shell: wiring', () => {
+  let db: ReturnType<typeof tempDb>;
+  let store: Store;
+  let service: Service;
+  let fake: ReturnType<typeof fakeElectron>;
+  let win: FakeContents;
+
+  beforeEach(async () => {
+    db = tempDb();
+    store = new Store(db.file);
+    service = new Service({ store, mode: 'desktop' });
+    fake = fakeElectron();
+    const started = startDesktop(fake.api, {
+      indexFile: INDEX,
+      indexUrl: INDEX_URL,
+      preloadDir: '/opt/nullbench/dist/electron',
+      open: () => ({ service, close: () => undefined }),
+    });
+    fake.ready();
+    await started;
+    win = fake.windows[0].webContents;
+  });
+
+  afterEach(async () => {
+    await service.close();
+    store.close();
+    db.cleanup();
+  });
+
+  it('enables the sandbox for every renderer before the app is ready, and opens one window on our page', () => {
+    const sandbox = fake.log.indexOf('enableSandbox');
+    assert.ok(sandbox >= 0 && sandbox < fake.log.indexOf('whenReady'), fake.log.join(', '));
+    assert.equal(fake.windows.length, 1);
+    assert.equal(fake.windows[0].loaded, INDEX);
+    assert.deepEqual(fake.windows[0].options, windowOptions('/opt/nullbench/dist/electron'));
+  });
+
+  it('blocks navigation, redirects, new windows and webviews in every web contents', () => {
+    for (const url of ['https://attacker.example/', pathToFileURL('/etc/passwd').href, INDEX_URL]) {
+      assert.equal(win.fire('will-navigate', url), true, `navigation to ${url} went through`);
+      assert.equal(win.fire('will-redirect', url), true, `redirect to ${url} went through`);
+      assert.deepEqual(win.windowOpenHandler?.({ url }), { action: 'deny' });
+    }
+    assert.equal(win.fire('will-attach-webview'), true);
+    // Web contents made later (a devtools or a stray frame) get the same treatment.
+    const other = new FakeContents();
+    for (const l of fake.appHandlers.get('web-contents-created') ?? []) l({}, other);
+    assert.equal(other.fire('will-navigate', 'https://attacker.example/'), true);
+    assert.deepEqual(other.windowOpenHandler?.({ url: 'https://attacker.example/' }), { action: 'deny' });
+  });
+
+  it('grants the page no permission (camera, microphone, location, notifications ...)', () => {
+    for (const p of ['media', 'geolocation', 'notifications', 'clipboard-read', 'usb', 'serial']) {
+      let granted: boolean | null = null;
+      fake.perms.request!(win, p, (g: boolean) => (granted = g));
+      assert.equal(granted, false, p);
+      assert.equal(fake.perms.check!(win, p), false, p);
+    }
+  });
+
+  const invoke = (
+    sender: unknown,
+    frame: { url: string; parent: unknown } | null,
+    ...args: unknown[]
+  ): Promise<{ ok: boolean; code?: string; field?: string; value?: unknown }> =>
+    Promise.resolve(
+      fake.calls.get(CALL_CHANNEL)!(
+        { sender, senderFrame: frame } as unknown as IpcMainInvokeEvent,
+        ...args,
+      ) as { ok: boolean },
+    );
+
+  it('answers calls from its own page, validated by the contract', async () => {
+    const top = { url: INDEX_URL, parent: null };
+    const ok = await invoke(win, top, 'createDesign', { name: 'Kestrel 20' });
+    assert.equal(ok.ok, true);
+    const routed = await invoke(win, { url: `${INDEX_URL}#records`, parent: null }, 'tree', {});
+    assert.equal(routed.ok, true);
+  });
+
+  it('refuses calls from another page, a subframe, or another window, and runs nothing', async () => {
+    const refused = [
+      await invoke(win, { url: 'https://attacker.example/', parent: null }, 'createDesign', { name: 'X' }),
+      await invoke(win, { url: INDEX_URL, parent: { url: INDEX_URL } }, 'createDesign', { name: 'X' }),
+      await invoke(new FakeContents(), { url: INDEX_URL, parent: null }, 'createDesign', { name: 'X' }),
+      await invoke(win, null, 'createDesign', { name: 'X' }),
+    ];
+    for (const r of refused) assert.deepEqual([r.ok, r.code, r.field], [false, 'EREJECTED', 'sender']);
+    assert.equal(store.tree().length, 0);
+  });
+
+  it('refuses a malformed envelope or malformed arguments with EINVAL naming the field, before any handler', async () => {
+    const top = { url: INDEX_URL, parent: null };
+    const cases: [unknown[], string][] = [
+      [[42, {}], 'ipc[0]'],
+      [['createDesign'], 'ipc'],
+      [['create Design', {}], 'ipc[0]'],
+      [['__proto__', {}], 'ipc[0]'],
+      [['createDesign', {}, 'extra'], 'ipc'],
+      [['createDesign', { name: '' }], 'name'],
+      [['createDesign', { name: 'Y', surprise: 1 }], ''],
+    ];
+    for (const [args, field] of cases) {
+      const r = await invoke(win, top, ...args);
+      if (field === '') {
+        // Unknown keys are stripped by the contract's schema: the call is valid without them.
+        assert.equal(r.ok, true, JSON.stringify(args));
+        continue;
+      }
+      assert.deepEqual([r.ok, r.code, r.field], [false, 'EINVAL', field], JSON.stringify(args));
+    }
+    assert.deepEqual(
+      store.tree().map((d) => d.name),
+      ['Y'],
+    );
+  });
+
+  it('forwards every service event to its own window only', async () => {
+    await service.call('status', {});
+    await invoke(win, { url: INDEX_URL, parent: null }, 'closeSession', {});
+    assert.ok(win.sent.some(([c]) => c === `${EVENT_CHANNEL_PREFIX}status`));
+    assert.deepEqual([...EVENTS], [...BRIDGE_EVENTS], 'the preload and the contract list different events');
+  });
+});
+
+describe('desktop shell: preload bridge', () => {
+  function fakeIpc() {
+    const listeners = new Map<string, Set<(e: IpcRendererEvent, ...a: unknown[]) => void>>();
+    const invoked: unknown[][] = [];
+    return {
+      invoked,
+      listeners,
+      invoke: async (...a: unknown[]) => invoked.push(a),
+      on: (c: string, l: (e: IpcRendererEvent, ...a: unknown[]) => void) => {
+        if (!listeners.has(c)) listeners.set(c, new Set());
+        listeners.get(c)!.add(l);
+      },
+      removeListener: (c: string, l: (e: IpcRendererEvent, ...a: unknown[]) => void) =>
+        listeners.get(c)?.delete(l),
+    };
+  }
+
+  it('exposes exactly call and listen, frozen; call goes through the one call channel', async () => {
+    const ipc = fakeIpc();
+    const bridge = makeBridge(ipc);
+    assert.deepEqual(Object.keys(bridge).sort(), ['call', 'listen']);
+    assert.ok(Object.isFrozen(bridge));
+    await bridge.call({ toString: () => 'status' } as unknown as string, { a: 1 });
+    assert.deepEqual(ipc.invoked, [[CALL_CHANNEL, 'status', { a: 1 }]]);
+  });
+
+  it('passes the payload and never the IPC event to the page; unsubscribing removes the listener', () => {
+    const ipc = fakeIpc();
+    const bridge = makeBridge(ipc);
+    const got: unknown[][] = [];
+    const off = bridge.listen('reading', (...a: unknown[]) => got.push(a));
+    const channel = `${EVENT_CHANNEL_PREFIX}reading`;
+    const sender = { send: () => undefined } as unknown as WebContents;
+    for (const l of ipc.listeners.get(channel)!) l({ sender } as unknown as IpcRendererEvent, { dbm: -80 });
+    assert.deepEqual(got, [[{ dbm: -80 }]]);
+    off();
+    assert.equal(ipc.listeners.get(channel)!.size, 0);
+  });
+
+  it('refuses unknown events and a missing callback', () => {
+    const bridge = makeBridge(fakeIpc());
+    assert.throws(() => bridge.listen('nullbench:call', () => undefined), /unknown event/);
+    assert.throws(() => bridge.listen('reading', null as unknown as () => void), /callback/);
+  });
+
+  it('builds into a preload that requires nothing but electron (all a sandboxed preload may load)', async () => {
+    const out = await build({
+      entryPoints: ['main/shells/electron/preload.ts'],
+      bundle: true,
+      write: false,
+      platform: 'node',
+      format: 'cjs',
+      external: ['electron'],
+      logLevel: 'silent',
+    });
+    const code = out.outputFiles[0].text;
+    const required = [...code.matchAll(/require\(["']([^"']+)["']\)/g)].map((m) => m[1]);
+    assert.deepEqual([...new Set(required)], ['electron']);
+  });
+});
