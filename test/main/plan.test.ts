@@ -5,12 +5,15 @@ import { describe, it } from 'node:test';
 import assert from 'node:assert/strict';
 import type { PlanView, ProgressEvent } from '../../app/api';
 import { Service } from '../../main/service';
+import { SimBench } from '../../main/sim/bench';
 import { RigServer } from '../../main/sim/rigserver';
+import { SimSerialDevice } from '../../main/sim/serialdevice';
 import { createSource } from '../../main/sources';
 import { Store } from '../../main/store/store';
+import { ptyPair } from '../helpers/pty';
 import { startRigctld } from '../helpers/rigctld';
 import { serviceWithSession, TRIMS } from '../helpers/session';
-import { tempDb } from '../helpers/tmp';
+import { tempDb, tempDir } from '../helpers/tmp';
 
 async function until<T>(fn: () => T | undefined | null | false, ms = 20000, what = 'condition'): Promise<T> {
   const end = Date.now() + ms;
@@ -305,6 +308,50 @@ describe('plans on real links', () => {
     } finally {
       await b.cleanup();
       await srv.close();
+    }
+  });
+
+  it('runs end to end over a serial pty pair, the device fed by the simulated bench', async () => {
+    const dir = tempDir();
+    const pty = await ptyPair(dir.dir);
+    // A 1 W DSB board through 50 dB, read by a receiver speaking the db-over-s9 command set.
+    const dev = new SimSerialDevice({
+      path: pty.b,
+      commandSet: 'db-over-s9',
+      bench: new SimBench({ seed: 8, pathLossDb: 50 }),
+    });
+    await dev.start();
+    const b = await bareService();
+    try {
+      const source = `serial:${pty.a}@38400`;
+      const withTemplate = await b.session(source, {
+        receiver: {
+          name: 'rx',
+          source,
+          template: 'db-over-s9',
+          calibration: null,
+          bandwidthHz: 500,
+          maxInputDbm: 10,
+        },
+      });
+      const v0 = await b.service.invoke('planStart', {
+        sessionId: withTemplate.id,
+        plan: { points: ['carrier', 'upper', 'lower', 'imd3u', 'imd3l'], average: 4, settleMs: 600 },
+      });
+      const v = await b.service.plans.wait(v0.id);
+      assert.equal(v.state, 'done', v.message);
+      assert.ok(dev.log.includes('FRQ 7103000'), 'the device was retuned to IMD3 upper');
+      const row = (role: string) => v.rows.find((r) => r.role === role)!;
+      // One DSB sideband of 30 dBm PEP: 23.98 dBm (REFERENCES.md: PEP = 4 x one tone), through R.1 and the path.
+      assert.ok(Math.abs(row('upper').dbmDut! - 23.98) < 1.5, `upper ${row('upper').dbmDut}`);
+      // The simulated board's IMD3 is 32 dB below one tone (main/sim/transmitter.ts).
+      assert.ok(Math.abs(row('imd3l').relDb! + 32) < 2, `IMD3 ${row('imd3l').relDb}`);
+      for (const r of b.store.readings(withTemplate.id)) assert.ok(Math.abs(r.dbmRx - (-73 + r.raw)) < 1e-9);
+    } finally {
+      await b.cleanup();
+      await dev.stop();
+      await pty.kill();
+      dir.cleanup();
     }
   });
 
