@@ -1,7 +1,8 @@
 // Runs in Node (main process, web server, CLI). Opens the database (WAL) and applies the numbered
 // SQL files in migrations/ in order, recording each in schema_migrations, each in its own transaction.
+// An existing database is copied aside before it is upgraded; one from a newer Nullbench is refused.
 import Database from 'better-sqlite3';
-import { mkdirSync, readdirSync, readFileSync } from 'node:fs';
+import { existsSync, mkdirSync, readdirSync, readFileSync } from 'node:fs';
 import { dirname, join, resolve } from 'node:path';
 import { BenchError } from '../../app/errors';
 import { migrationsDir } from '../paths';
@@ -42,6 +43,8 @@ export interface OpenOptions {
   nativeBinding?: string;
   readonly?: boolean;
   migrations?: Migration[];
+  /** Told where the copy made before an upgrade of an existing database went. */
+  onBackup?: (path: string) => void;
 }
 
 export function openDb(file: string, opts: OpenOptions = {}): Db {
@@ -53,8 +56,64 @@ export function openDb(file: string, opts: OpenOptions = {}): Db {
   db.pragma('synchronous = FULL');
   db.pragma('foreign_keys = ON');
   db.pragma('busy_timeout = 5000');
-  if (!opts.readonly) migrate(db, opts.migrations ?? loadMigrations());
+  if (!opts.readonly) {
+    const migrations = opts.migrations ?? loadMigrations();
+    try {
+      const applied = appliedVersions(db);
+      const known = new Set(migrations.map((m) => m.version));
+      const pending = migrations.filter((m) => !applied.has(m.version));
+      // An existing database about to change gets a copy first (one from a newer build is refused below).
+      if (
+        file !== ':memory:' &&
+        applied.size > 0 &&
+        pending.length > 0 &&
+        [...applied].every((v) => known.has(v))
+      ) {
+        const latest = migrations[migrations.length - 1].version;
+        const copy = backupBeforeUpgrade(db, file, schemaVersion(db), latest);
+        opts.onBackup?.(copy);
+      }
+      migrate(db, migrations);
+    } catch (e) {
+      db.close();
+      throw e;
+    }
+  }
   return db;
+}
+
+/**
+ * Copies the database (a consistent, compacted copy through VACUUM INTO, WAL content included) next to it
+ * before an upgrade: "nullbench.db.v2-before-v4.bak". A failed copy stops the upgrade; nothing is changed.
+ */
+export function backupBeforeUpgrade(db: Db, file: string, from: number, to: number): string {
+  const base = `${resolve(file)}.v${from}-before-v${to}`;
+  let target = `${base}.bak`;
+  if (existsSync(target)) target = `${base}.${new Date().toISOString().replace(/[:.]/g, '-')}.bak`;
+  try {
+    db.prepare('VACUUM INTO ?').run(target);
+  } catch (e) {
+    throw new BenchError(
+      'EIO',
+      `could not back the database up to ${target} before upgrading it from schema ${from} to ${to} ` +
+        `(${(e as Error).message}); nothing was changed`,
+      'database',
+    );
+  }
+  return target;
+}
+
+/** The migration versions recorded in the database (none for a new one). */
+export function appliedVersions(db: Db): Set<number> {
+  const row = db
+    .prepare("SELECT name FROM sqlite_master WHERE type = 'table' AND name = 'schema_migrations'")
+    .get();
+  if (!row) return new Set();
+  return new Set(
+    (db.prepare('SELECT version FROM schema_migrations').all() as { version: number }[]).map(
+      (r) => r.version,
+    ),
+  );
 }
 
 export function schemaVersion(db: Db): number {

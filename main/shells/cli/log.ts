@@ -140,7 +140,9 @@ Refused when the receiver input at the declared PEP through the path would excee
           );
       }
 
-      const store = new Store(values.db ?? defaultDbPath());
+      const store = new Store(values.db ?? defaultDbPath(), {
+        onBackup: (p) => io.err(`The database was upgraded; its earlier version is kept at ${p}\n`),
+      });
       const service = new Service({
         store,
         mode: 'cli',

@@ -14,6 +14,8 @@ export interface Served {
   token: string | null;
   /** The addresses a browser can use (on a network: every interface's, and the host's names). */
   addresses: string[];
+  /** Where the database was copied before this start upgraded it, if it did. */
+  backup: string | null;
   stop(): Promise<void>;
 }
 
@@ -46,7 +48,8 @@ function reachableNames(host: string): string[] {
 /** Starts the web mode; used by `serve` and by `npm start` when there is no desktop shell. */
 export async function startWeb(opts: WebStartOptions): Promise<Served> {
   const host = opts.host ?? '127.0.0.1';
-  const store = new Store(opts.dbPath);
+  let backup: string | null = null;
+  const store = new Store(opts.dbPath, { onBackup: (p) => (backup = p) });
   const service = new Service({ store, mode: 'web' });
   const networked = !isLoopback(host);
   const guarded = networked || !!opts.requireToken;
@@ -80,6 +83,7 @@ export async function startWeb(opts: WebStartOptions): Promise<Served> {
       url,
       token,
       addresses,
+      backup,
       async stop() {
         await web.close();
         await service.close();
@@ -170,6 +174,8 @@ Requests naming another host, and calls from pages of other sites, are refused. 
         requireToken: values.token,
         allowHosts,
       });
+      if (served.backup)
+        io.out(`The database was upgraded; its earlier version is kept at ${served.backup}\n`);
       io.out(`Nullbench web mode: ${served.url}\n`);
       if (guarded) {
         if (networked) io.out(`Reach it at: ${served.addresses.join('  ')}\n`);
