@@ -126,13 +126,30 @@ export async function readSigmfInfo(path: string): Promise<SigmfInfo> {
     if (f !== undefined && (typeof f !== 'number' || !Number.isFinite(f))) {
       return bad(`captures[${i}].core:frequency`, `must be a number of Hz, got ${JSON.stringify(f)}`);
     }
+    const h = c['core:header_bytes'];
+    if (h !== undefined && !isCount(h))
+      return bad(
+        `captures[${i}].core:header_bytes`,
+        `must be a whole number of bytes >= 0, got ${JSON.stringify(h)}`,
+      );
     return undefined;
   });
   const first = (captures[0] ?? { 'core:sample_start': 0 }) as Record<string, unknown>;
   const start = first['core:sample_start'] as number;
   const headerBytes = (first['core:header_bytes'] as number | undefined) ?? 0;
-  const trailing = (g['core:trailing_bytes'] as number | undefined) ?? 0;
+  const trailing = g['core:trailing_bytes'] ?? 0;
+  if (!isCount(trailing))
+    bad(
+      'global.core:trailing_bytes',
+      `must be a whole number of bytes >= 0, got ${JSON.stringify(trailing)}`,
+    );
   const dataset = g['core:dataset'];
+  // A file name beside the metadata (SigMF's non-conforming dataset), never a path to elsewhere.
+  if (dataset !== undefined && (typeof dataset !== 'string' || !/^(?!\.\.?$)[^/\\]+$/.test(dataset)))
+    bad(
+      'global.core:dataset',
+      `must be the name of a file beside the metadata, got ${JSON.stringify(dataset)}`,
+    );
   const dataPath =
     typeof dataset === 'string'
       ? join(dirname(metaPath), dataset)
@@ -140,12 +157,15 @@ export async function readSigmfInfo(path: string): Promise<SigmfInfo> {
 
   let size: number;
   try {
-    size = (await stat(dataPath)).size;
-  } catch {
+    const st = await stat(dataPath);
+    if (!st.isFile()) throw new BenchError('EINVAL', `the dataset of ${where} is not a file`, dataPath);
+    size = st.size;
+  } catch (e) {
+    if (e instanceof BenchError) throw e;
     throw new BenchError('ENOTFOUND', `the dataset of ${where} is missing`, dataPath);
   }
   const sampleBytes = bytesPerSample(format);
-  const usable = size - headerBytes - trailing;
+  const usable = size - headerBytes - (trailing as number);
   if (usable < 0)
     bad('global.core:trailing_bytes', `header and trailing bytes exceed the dataset's ${size} bytes`);
   if (usable % sampleBytes !== 0) {
@@ -173,6 +193,10 @@ export async function readSigmfInfo(path: string): Promise<SigmfInfo> {
     sampleCount: end - start,
     segments: Math.max(1, captures.length),
   };
+}
+
+function isCount(v: unknown): v is number {
+  return typeof v === 'number' && Number.isSafeInteger(v) && v >= 0;
 }
 
 /** Opens a SigMF recording (first capture segment) for reading. */
