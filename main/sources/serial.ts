@@ -104,7 +104,7 @@ export class SerialLink {
   }
 
   async open(): Promise<void> {
-    this.close();
+    await this.close();
     this.deadError = null;
     this.lines = [];
     this.partial = '';
@@ -151,16 +151,16 @@ export class SerialLink {
     });
   }
 
-  close(): void {
+  /** Closes the port; resolves once the system has let go of it (its lock too), so it can be opened again. */
+  close(): Promise<void> {
     const p = this.port;
     this.port = null;
-    if (p) {
-      p.removeAllListeners('close');
-      p.removeAllListeners('data');
-      p.on('error', () => undefined);
-      if (p.isOpen) p.close(() => undefined);
-    }
     this.die(new BenchError('EIO', `${this.path} was closed`));
+    if (!p) return Promise.resolve();
+    p.removeAllListeners('close');
+    p.removeAllListeners('data');
+    p.on('error', () => undefined);
+    return new Promise((ok) => (p.isOpen ? p.close(() => ok()) : ok()));
   }
 
   private die(err: BenchError): void {
@@ -299,7 +299,7 @@ export class SerialSource implements LevelSource {
   }
 
   async close(): Promise<void> {
-    this.link.close();
+    await this.link.close();
   }
 
   /**
