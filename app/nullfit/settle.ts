@@ -21,6 +21,14 @@ export interface SettleOptions {
    * ±tolerance for a whole window while it is still dB away from the level; the drift test catches that.
    */
   trendDb?: number;
+  /**
+   * Shortest time the window must span, ms ≥ 0; default 0 (the window is windowCount readings, however
+   * quickly they come). A meter decaying with time constant τ towards a deeper level passes the drift test
+   * over a short window while still well above it: the drift between the halves of a window spanning T is
+   * about R·(e^(T/2τ) − 1) for a remaining error R, so only a window spanning a few τ bounds R. The window
+   * then holds every reading of the last minSpanMs (and at least windowCount).
+   */
+  minSpanMs?: number;
 }
 
 export interface SettleState {
@@ -32,7 +40,7 @@ export interface SettleState {
   meanDbm: number;
   /** Highest minus lowest reading in the window, dB. */
   spreadDb: number;
-  /** Readings in the window (≤ windowCount). */
+  /** Readings in the window (windowCount, or more when minSpanMs needs them). */
   count: number;
 }
 
@@ -41,7 +49,9 @@ export class SettleDetector {
   readonly toleranceDb: number;
   readonly timeoutMs: number;
   readonly trendDb: number;
+  readonly minSpanMs: number;
   private window: number[] = [];
+  private times: number[] = [];
   private startMs: number | null = null;
   private lastMs = -Infinity;
 
@@ -60,6 +70,7 @@ export class SettleDetector {
     this.toleranceDb = finiteIn(opts.toleranceDb, 'SettleDetector.toleranceDb', 0.001, 60, 'dB');
     this.timeoutMs = finiteIn(opts.timeoutMs, 'SettleDetector.timeoutMs', 1, 1e9, 'ms');
     this.trendDb = finiteIn(opts.trendDb ?? this.toleranceDb / 2, 'SettleDetector.trendDb', 0.001, 60, 'dB');
+    this.minSpanMs = finiteIn(opts.minSpanMs ?? 0, 'SettleDetector.minSpanMs', 0, 1e7, 'ms');
   }
 
   /**
@@ -78,19 +89,29 @@ export class SettleDetector {
     this.lastMs = tMs;
     if (this.startMs === null) this.startMs = tMs;
     this.window.push(dbm);
-    if (this.window.length > this.windowCount) this.window.shift();
+    this.times.push(tMs);
+    // Drop the oldest reading while the rest still hold windowCount readings spanning minSpanMs.
+    while (
+      this.window.length > this.windowCount &&
+      (this.minSpanMs === 0 || tMs - this.times[1] >= this.minSpanMs)
+    ) {
+      this.window.shift();
+      this.times.shift();
+    }
     return this.state(tMs);
   }
 
   /** Forget everything: the next push starts a new wait (after moving a trimmer or retuning). */
   reset(): void {
     this.window = [];
+    this.times = [];
     this.startMs = null;
     this.lastMs = -Infinity;
   }
 
   toString(): string {
-    return `SettleDetector(${this.windowCount} readings within ±${this.toleranceDb} dB, timeout ${this.timeoutMs} ms)`;
+    const span = this.minSpanMs > 0 ? ` over at least ${this.minSpanMs} ms` : '';
+    return `SettleDetector(${this.windowCount} readings${span} within ±${this.toleranceDb} dB, timeout ${this.timeoutMs} ms)`;
   }
 
   private state(tMs: number): SettleState {
@@ -102,8 +123,9 @@ export class SettleDetector {
     let drift = 0;
     for (let i = 0; i < half; i++) drift += w[w.length - 1 - i] - w[i];
     drift = half > 0 ? Math.abs(drift) / half : 0;
+    const full = w.length >= this.windowCount && tMs - this.times[0] >= this.minSpanMs - 1e-9;
     const settled =
-      w.length === this.windowCount &&
+      full &&
       w.every((x) => Math.abs(x - meanDbm) <= this.toleranceDb + 1e-9) &&
       drift <= this.trendDb + 1e-9;
     const timedOut = !settled && tMs - (this.startMs ?? tMs) >= this.timeoutMs;

@@ -27,6 +27,12 @@ export interface LiveOptions {
   settleCount?: number;
   settleTolDb?: number;
   settleTimeoutMs?: number;
+  /**
+   * The settle window spans at least this long, ms; default 1200. An S-meter decays with a time constant of
+   * 500 ms or more (IARU Region 1 recommendation R.1): a shorter window calls a meter still falling towards a
+   * deep null steady while it reads dB high (see SettleDetector.minSpanMs).
+   */
+  settleSpanMs?: number;
   /** Pause between readings, ms (on the source's clock). */
   intervalMs?: number;
   /** Where the trimmers stand when the bench starts (the last stored positions of the session). */
@@ -66,6 +72,7 @@ export class LiveBench extends EventEmitter<LiveEvents> {
       settleCount: opts.settleCount ?? 8,
       settleTolDb: opts.settleTolDb ?? 1,
       settleTimeoutMs: opts.settleTimeoutMs ?? 8000,
+      settleSpanMs: opts.settleSpanMs ?? 1200,
       intervalMs: opts.intervalMs ?? 0,
     };
     this.corrector = new Corrector({
@@ -79,6 +86,7 @@ export class LiveBench extends EventEmitter<LiveEvents> {
       windowCount: this.opts.settleCount,
       toleranceDb: this.opts.settleTolDb,
       timeoutMs: this.opts.settleTimeoutMs,
+      minSpanMs: this.opts.settleSpanMs,
     });
     // Continue where the session left off; a new session starts each trimmer mid-travel.
     const last = opts.initialTrims ?? {};

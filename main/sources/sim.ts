@@ -80,8 +80,14 @@ export class SimSource implements LevelSource {
     });
   }
 
+  /**
+   * The lowest level the simulated receiver can measure: its noise in the bandwidth, or the bottom of its
+   * meter's scale where that is higher (S9 − 54 dB = −127 dBm against about −135 dBm of noise), below which
+   * every reading is pegged.
+   */
   get noiseFloorDbm(): number {
-    return this.bench.rx.noiseFloorDbm();
+    const rx = this.bench.rx;
+    return Math.max(rx.noiseFloorDbm(), rx.cfg.s9Dbm + rx.cfg.meterMinDb);
   }
 
   async open(): Promise<void> {}

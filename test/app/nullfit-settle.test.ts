@@ -42,6 +42,32 @@ describe('SettleDetector', () => {
     assert.equal(last?.settled, true, 'without the drift test the same readings pass');
   });
 
+  it('with minSpanMs, does not call a slowly decaying meter steady while it still reads high', () => {
+    // An S-meter falling 30 dB towards a deep null with a 500 ms decay time constant (the least IARU
+    // Region 1 recommendation R.1 allows), read every 40 ms in 1 dB steps, as the simulated receiver does.
+    const meter = (tMs: number): number => Math.round(-100 + 30 * Math.exp(-tMs / 500));
+    const settleAt = (d: SettleDetector): { t: number; mean: number } => {
+      for (let t = 40; t < 8000; t += 40) {
+        const s = d.push(meter(t), t);
+        if (s.settled) return { t, mean: s.meanDbm };
+      }
+      return { t: Infinity, mean: NaN };
+    };
+    const short = settleAt(new SettleDetector({ windowCount: 8, toleranceDb: 1, timeoutMs: 8000 }));
+    const long = settleAt(
+      new SettleDetector({ windowCount: 8, toleranceDb: 1, timeoutMs: 8000, minSpanMs: 1200 }),
+    );
+    // A window of 8 readings (280 ms) passes the drift test with dB still to fall.
+    assert.ok(short.mean - -100 >= 1, `short window settled ${(short.mean + 100).toFixed(2)} dB high`);
+    // Spanning 1.2 s, the drift between the window's halves bounds what is left to a fraction of a dB.
+    assert.ok(long.mean - -100 <= 0.6, `long window settled ${(long.mean + 100).toFixed(2)} dB high`);
+    assert.ok(long.t >= 1200 && long.t < 4000, `settled after ${long.t} ms`);
+    assert.match(
+      String(new SettleDetector({ windowCount: 8, toleranceDb: 1, timeoutMs: 8000, minSpanMs: 1200 })),
+      /8 readings over at least 1200 ms within ±1 dB/,
+    );
+  });
+
   it('flags a timeout when the level never settles, and keeps reporting the window', () => {
     const d = new SettleDetector({ windowCount: 3, toleranceDb: 0.1, timeoutMs: 1000 });
     let s = d.push(-50, 0);
@@ -75,6 +101,7 @@ describe('SettleDetector', () => {
     bad({ windowCount: 2.5, toleranceDb: 1, timeoutMs: 1 }, 'SettleDetector.windowCount');
     bad({ windowCount: 3, toleranceDb: 0, timeoutMs: 1 }, 'SettleDetector.toleranceDb');
     bad({ windowCount: 3, toleranceDb: 1, timeoutMs: Number.NaN }, 'SettleDetector.timeoutMs');
+    bad({ windowCount: 3, toleranceDb: 1, timeoutMs: 1, minSpanMs: -1 }, 'SettleDetector.minSpanMs');
     const d = new SettleDetector({ windowCount: 3, toleranceDb: 1, timeoutMs: 100 });
     assert.throws(
       () => d.push(Number.NaN, 0),
