@@ -15,7 +15,7 @@ import {
 } from '../../app/bundle';
 import { validateCalibration } from '../../app/calibration';
 import { BenchError } from '../../app/errors';
-import { validateLimitSet } from '../../app/limits';
+import { PRESETS, validateLimitSet } from '../../app/limits';
 import { validatePath } from '../../app/path';
 import { benchErrorFromZod } from '../../app/zodissue';
 import type { Store } from '../store/store';
@@ -359,8 +359,17 @@ export function validateBundle(input: unknown, store?: Store): Bundle {
     const { createdAt: _c, updatedAt: _u, ...set } = l;
     rethrowAt(() => validateLimitSet(set), `limitSets[${i}]`);
   });
+  const limitIds = new Set(b.limitSets.map((l) => l.id));
   b.sheets.forEach((s, i) => {
     ref(unitIds.has(s.unitId) || exists('units', s.unitId), `sheets[${i}].unitId`, `unit "${s.unitId}"`);
+    s.limitSetIds.forEach((id, j) => {
+      if (!PRESETS.some((p) => p.id === id))
+        ref(
+          limitIds.has(id) || exists('limit_sets', id),
+          `sheets[${i}].limitSetIds[${j}]`,
+          `limit set "${id}"`,
+        );
+    });
     if (s.sessionId !== null)
       ref(
         sessionIds.has(s.sessionId) || exists('sessions', s.sessionId),
@@ -568,6 +577,7 @@ export function importBundle(store: Store, text: string): ImportSummary {
       ).run(g.sessionId, g.tStartMs, g.tEndMs, g.code, g.message);
       sum.added.gaps++;
     }
+    const limitMap = new Map<string, string>();
     for (const [i, l] of b.limitSets.entries()) {
       const byId = db.prepare('SELECT rules_json, name FROM limit_sets WHERE id = ?').get(l.id) as
         { rules_json: string; name: string } | undefined;
@@ -577,9 +587,11 @@ export function importBundle(store: Store, text: string): ImportSummary {
         if (byId.rules_json === rawJson('limitSets', i, 'rules') && byId.name === l.name)
           sum.unchanged.limitSets++;
         else sum.keptLocal.push(`limit set "${byId.name}" differs from the bundle's: kept as it is here`);
-      } else if (byName)
+      } else if (byName) {
+        // Sheets of the bundle that name this set then name the local one.
+        limitMap.set(l.id, byName.id);
         sum.keptLocal.push(`a limit set named "${l.name}" is already here: kept as it is here`);
-      else {
+      } else {
         db.prepare(
           `INSERT INTO limit_sets (id, name, source, standing, notes, rules_json, created_at, updated_at)
            VALUES (?, ?, ?, ?, ?, ?, ?, ?)`,
@@ -605,7 +617,14 @@ export function importBundle(store: Store, text: string): ImportSummary {
       db.prepare(
         `INSERT INTO unit_sheets (unit_id, limit_set_ids_json, reference, session_id, notes, updated_at)
          VALUES (?, ?, ?, ?, ?, ?)`,
-      ).run(unitId, JSON.stringify(s.limitSetIds), s.reference, s.sessionId, s.notes, s.updatedAt);
+      ).run(
+        unitId,
+        JSON.stringify(s.limitSetIds.map((id) => limitMap.get(id) ?? id)),
+        s.reference,
+        s.sessionId,
+        s.notes,
+        s.updatedAt,
+      );
       sum.added.sheets++;
     }
   });

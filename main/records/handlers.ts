@@ -22,6 +22,7 @@ export type RecordHandlers = {
 /** Bundle uploads in parts (web mode): the parts so far, and when the last one came. */
 const UPLOAD_TTL_MS = 10 * 60_000;
 const UPLOAD_MAX_CHARS = 200 * 1024 * 1024;
+const MAX_UPLOADS = 4;
 
 export function recordHandlers(store: Store, pdf: () => PdfRenderer): RecordHandlers {
   const rec = new Records(store);
@@ -91,6 +92,12 @@ export function recordHandlers(store: Store, pdf: () => PdfRenderer): RecordHand
       const now = Date.now();
       for (const [id, u] of uploads) if (now - u.at > UPLOAD_TTL_MS) uploads.delete(id);
       let u = uploads.get(a.uploadId);
+      if (!u && uploads.size >= MAX_UPLOADS)
+        throw new BenchError(
+          'ECONFLICT',
+          `${MAX_UPLOADS} imports are already under way: wait for one to finish`,
+          'uploadId',
+        );
       if (!u) {
         u = { parts: new Array<string | undefined>(a.parts).fill(undefined), chars: 0, at: now };
         uploads.set(a.uploadId, u);

@@ -5,6 +5,7 @@ import assert from 'node:assert/strict';
 import { BenchError } from '../../app/errors';
 import { exportBundle, exportBundleText, importBundle } from '../../main/records/bundle';
 import { Records } from '../../main/records/manage';
+import { Service } from '../../main/service';
 import { Store } from '../../main/store/store';
 import { demoDb } from '../helpers/demo';
 import { tempDb } from '../helpers/tmp';
@@ -310,6 +311,73 @@ describe('records.bundle', () => {
       assert.deepEqual(counts(target), before);
     } finally {
       target.close();
+      t.cleanup();
+      d.cleanup();
+    }
+  });
+
+  it('points an imported sheet at the local limit set of the same name, and refuses one that is nowhere', async () => {
+    const { d, store } = await fullDemo();
+    const t = tempDb();
+    const other = new Store(t.file);
+    try {
+      const text = exportBundleText(store);
+      const mine = new Records(other).saveLimitSet({
+        name: 'Kit target',
+        rules: [{ metric: 'balance', maxDb: 2 }],
+      });
+      const sum = importBundle(other, text);
+      assert.match(sum.keptLocal.join('\n'), /a limit set named "Kit target" is already here/);
+      const unit = new Records(other).unitBySerial('HD40-0102');
+      assert.deepEqual(new Records(other).sheetSettings(unit.id).limitSetIds, [mine.id, 'preset:us-97.307d']);
+      const bad = JSON.parse(text);
+      bad.limitSets = [];
+      const t2 = tempDb();
+      const third = new Store(t2.file);
+      try {
+        rejects(() => importBundle(third, JSON.stringify(bad)), 'sheets[0].limitSetIds[0]', /limit set/);
+      } finally {
+        third.close();
+        t2.cleanup();
+      }
+    } finally {
+      other.close();
+      t.cleanup();
+      store.close();
+      d.cleanup();
+    }
+  });
+
+  it('takes a large bundle in parts through the service, in any order, and imports it once whole', async () => {
+    const d = await demoDb();
+    const src = new Store(d.file);
+    const text = exportBundleText(src);
+    src.close();
+    const t = tempDb();
+    const store = new Store(t.file);
+    const service = new Service({ store, mode: 'web' });
+    try {
+      const n = Math.max(3, Math.ceil(text.length / 900_000));
+      const size = Math.ceil(text.length / n);
+      const parts = Array.from({ length: n }, (_, i) => text.slice(i * size, (i + 1) * size));
+      const send = (part: number) =>
+        service.invoke('importBundlePart', { uploadId: 'test-upload-1', part, parts: n, text: parts[part] });
+      // Out of order: the last part first, then all but the second.
+      for (const i of [n - 1, ...parts.keys()].filter((i, k, a) => i !== 1 && a.indexOf(i) === k))
+        assert.equal(await send(i), null);
+      assert.equal(counts(store).readings, 0, 'nothing is written before the last part');
+      const sum = await send(1);
+      assert.ok(sum && sum.added.units === 6);
+      const wrong = await service.call('importBundlePart', {
+        uploadId: 'test-upload-2',
+        part: 3,
+        parts: 3,
+        text: 'x',
+      });
+      assert.equal(!wrong.ok && wrong.field, 'part');
+    } finally {
+      await service.close();
+      store.close();
       t.cleanup();
       d.cleanup();
     }
