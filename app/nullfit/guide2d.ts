@@ -26,6 +26,8 @@ export interface Bounds2D {
 export interface Guide2DOptions extends GuideOptions {
   /** Smallest settable step per trimmer, in its unit; default 1/1000 of each range. */
   resolution?: { a: number; b: number };
+  /** What the reason text calls the two trimmers; default "A" and "B". */
+  names?: { a: string; b: string };
 }
 
 export interface Trial2D {
@@ -87,7 +89,9 @@ export function nextTrial2D(
     a: roundTo(clamp(a, aLo, aHi), res.a),
     b: roundTo(clamp(b, bLo, bHi), res.b),
   });
-  const say = (p: { a: number; b: number }): string => `A ${fixed(p.a, res.a)}, B ${fixed(p.b, res.b)}`;
+  const names = { a: opts.names?.a ?? 'A', b: opts.names?.b ?? 'B' };
+  const say = (p: { a: number; b: number }): string =>
+    `${names.a} ${fixed(p.a, res.a)}, ${names.b} ${fixed(p.b, res.b)}`;
 
   // Readings over both travels that all agree: neither trimmer is acting on the carrier.
   const levels = readings.map((r) => r.dbm);
