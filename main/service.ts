@@ -19,6 +19,7 @@ import { benchErrorFromZod } from '../app/zodissue';
 import { validateCalibration } from '../app/calibration';
 import { LiveBench, type LiveOptions } from './bench/live';
 import { recordHandlers } from './records/handlers';
+import { nullHandlers } from './nullguide';
 import { chromiumPdf, type PdfRenderer } from './sheet/pdf';
 import { seedDemo } from './demo';
 import { PlanDesk } from './plans';
@@ -114,6 +115,7 @@ export class Service {
       loadDemo: () => seedDemo(this.store),
       ...this.receivers.handlers(),
       ...this.plans.handlers(),
+      ...nullHandlers(this.store, () => this.live),
     };
   }
 

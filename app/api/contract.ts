@@ -11,6 +11,7 @@ import {
 } from './schemas';
 import { RECORD_CALLS } from './records';
 import { RECEIVER_CALLS } from './rxcalls';
+import { NULL_CALLS } from './nullcalls';
 
 const SessionRef = z.object({ sessionId: z.string().min(1).max(64) });
 
@@ -52,6 +53,7 @@ export const CALLS = {
     limit: z.number().int().min(1).max(1e6).default(5000),
   }),
   ...RECEIVER_CALLS,
+  ...NULL_CALLS,
 } as const;
 
 export type CallName = keyof typeof CALLS;

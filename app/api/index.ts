@@ -4,3 +4,4 @@ export * from './contract';
 export * from './service';
 export * from './rxcalls';
 export * from './records';
+export * from './nullcalls';

@@ -82,6 +82,8 @@ export const TrimDefSchema = z.object({
   unit: z.string().trim().min(1).max(20),
   min: z.number().finite(),
   max: z.number().finite(),
+  /** Smallest step the builder can set and read, in the unit; the guide rounds to it (default 1/2000 of the travel). */
+  step: z.number().positive().finite().optional(),
 });
 export type TrimDef = z.infer<typeof TrimDefSchema>;
 

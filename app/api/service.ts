@@ -3,6 +3,7 @@
 import type { CallArgs, CallName, NoticeEvent, ProgressEvent } from './contract';
 import type { RecordCallResults } from './records';
 import type { ReceiverCallResults } from './rxcalls';
+import type { NullCallResults } from './nullcalls';
 import type {
   Design,
   LiveReading,
@@ -19,7 +20,7 @@ export interface SweepResult {
   readings: Reading[];
 }
 
-export interface CallResults extends ReceiverCallResults, RecordCallResults {
+export interface CallResults extends ReceiverCallResults, RecordCallResults, NullCallResults {
   status: Status;
   tree: Tree;
   createDesign: Design;
