@@ -8,6 +8,7 @@ import { existsSync, readFileSync, statSync } from 'node:fs';
 import { join } from 'node:path';
 import Database from 'better-sqlite3';
 import { renderSheet } from '../../main/sheet';
+import { esc, niceTicks } from '../../main/sheet/svg';
 import { Records } from '../../main/records/manage';
 import { Store } from '../../main/store/store';
 import { runCli } from '../helpers/cli';
@@ -220,5 +221,30 @@ describe('nullbench sheet', () => {
       if (saved === undefined) delete process.env.CHROMIUM_PATH;
       else process.env.CHROMIUM_PATH = saved;
     }
+  });
+});
+
+describe('sheet/svg', () => {
+  it('niceTicks() covers the range with 1, 2, 2.5 or 5 × 10^n steps', () => {
+    for (const [lo, hi] of [
+      [-31.3, 9.2],
+      [0.02, 0.07],
+      [57, 71],
+      [3.5, 3.5],
+      [-127, -13],
+    ]) {
+      const { ticks, step } = niceTicks(lo, hi, 6);
+      assert.ok(ticks[0] <= lo && ticks[ticks.length - 1] >= hi, `${lo}..${hi}: ${ticks.join(' ')}`);
+      const m = step / 10 ** Math.floor(Math.log10(step));
+      assert.ok(
+        [1, 2, 2.5, 5].some((x) => Math.abs(x - m) < 1e-9),
+        `step ${step}`,
+      );
+      assert.ok(ticks.length <= 10, `${ticks.length} ticks`);
+    }
+  });
+
+  it('esc() leaves no markup in text', () => {
+    assert.equal(esc(`<b a="1">&'`), '&lt;b a=&quot;1&quot;&gt;&amp;&#39;');
   });
 });
