@@ -53,7 +53,7 @@ export interface TemplateEntry {
 }
 
 export interface CalibrationReadResult {
-  /** Power-free mean of the readings in the receiver's own quantity. */
+  /** Mean of the readings in the receiver's own quantity (the generator is steady: a plain mean). */
   raw: number;
   n: number;
   /** Largest minus smallest reading. */

@@ -83,7 +83,9 @@ export class PlanRunner {
     const total = run0.points.length;
     const label = (role: PointRole, hz: number) => `${ROLE_LABELS[role]} (${(hz / 1e6).toFixed(6)} MHz)`;
     plans.setState(this.runId, 'running', '');
-    let manualUnbalanced = false;
+    // Resumed after the reference was read by hand: the modulator may still be unbalanced, so ask first.
+    let manualUnbalanced =
+      !live.source.caps.unbalance && run0.points.some((p) => p.role === 'reference' && p.state === 'done');
     try {
       for (const p of run0.points) {
         if (p.state === 'done') continue;

@@ -316,6 +316,53 @@ export async function showReceiversDialog(api: ServiceClient, notify: Notify): P
       },
       'Fit and save the table',
     );
+    // A table made elsewhere (JSON as app/calibration stores it), or back to the R.1 default.
+    const saveCal = async (calibration: unknown, what: string) => {
+      err.textContent = '';
+      try {
+        await api.call('saveReceiver', {
+          receiver: {
+            id: s.id,
+            name: s.name,
+            source: s.source,
+            template: s.template,
+            calibration,
+            bandwidthHz: s.bandwidthHz,
+            maxInputDbm: s.maxInputDbm,
+            notes: s.notes,
+          },
+        });
+        notify('info', `${s.name}: ${what}`);
+        await reload();
+      } catch (e) {
+        say(err, e);
+      }
+    };
+    const calFile = h('input', { type: 'file', accept: '.json,application/json', id: 'cal-import' });
+    calFile.addEventListener('change', () => {
+      const file = calFile.files?.[0];
+      if (!file) return;
+      void file.text().then((text) => {
+        let data: unknown;
+        try {
+          data = JSON.parse(text);
+        } catch (e) {
+          return say(err, new Error(`${file.name}: not a JSON file (${(e as Error).message})`));
+        }
+        void saveCal(data, `calibration imported from ${file.name}`);
+      });
+    });
+    const calImport = h('label', { class: 'inline' }, 'Import a table (JSON)', calFile);
+    const clearBtn = h(
+      'button',
+      {
+        type: 'button',
+        id: 'cal-clear',
+        hidden: !s.calibration,
+        onclick: () => void saveCal(null, 'back to the IARU R.1 default'),
+      },
+      'Use the R.1 default',
+    );
     const cal = s.calibration;
     calib.append(
       h(
@@ -369,7 +416,7 @@ export async function showReceiversDialog(api: ServiceClient, notify: Notify): P
         ),
         rows,
       ),
-      h('div', { class: 'row' }, fitBtn),
+      h('div', { class: 'row' }, fitBtn, calImport, clearBtn),
       err,
     );
     drawRows();

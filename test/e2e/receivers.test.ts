@@ -155,6 +155,32 @@ describe('web mode with real receivers, end to end', () => {
     await page
       .locator('#receivers-dialog .dialog')
       .screenshot({ path: shot('e2e-rx-03-receivers-calibration') });
+    // A table from a file is checked like any other: levels must rise with the reading.
+    const bad = {
+      name: 'from a file',
+      quantity: 'strength-db',
+      bands: [
+        {
+          fromHz: 0,
+          toHz: 30e6,
+          points: [
+            { raw: -40, dbm: -100 },
+            { raw: 0, dbm: -110 },
+          ],
+        },
+      ],
+    };
+    await page.setInputFiles('#cal-import', {
+      name: 'bad.json',
+      mimeType: 'application/json',
+      buffer: Buffer.from(JSON.stringify(bad)),
+    });
+    await page.locator('#cal-error').filter({ hasText: 'bands[0].points[1].dbm' }).waitFor();
+    await page.click('#cal-clear');
+    await page
+      .locator('#rx-rows tr[data-receiver="Spare receiver"]')
+      .filter({ hasText: 'IARU R.1 default' })
+      .waitFor();
   });
 
   it('edits a copy of a built-in serial command set, and names the field of a mistake', async () => {
