@@ -23,6 +23,57 @@ function captureGroups(src: string): number {
   }
 }
 
+/** Length of a varying repeat at src[i] (*, +, {n,}, {n,m} with m > n), or 0; a fixed count {n} is not one. */
+function repeatAt(src: string, i: number): number {
+  const c = src[i];
+  if (c === '*' || c === '+') return 1;
+  if (c !== '{') return 0;
+  const m = /^\{(\d+)(,(\d*))?\}/.exec(src.slice(i));
+  if (!m) return 0;
+  const max = m[2] === undefined ? Number(m[1]) : m[3] === '' ? Infinity : Number(m[3]);
+  return max > Number(m[1]) ? m[0].length : 0;
+}
+
+/**
+ * True when a repeated group holds a repeat or alternatives of its own ("(\d+)+", "(a|ab)*", "(?:x{2,})+").
+ * Such a pattern can take exponential time on a reply that almost matches: a garbled line would freeze the
+ * reading loop. Replies of receivers never need one.
+ */
+export function hasNestedRepeat(src: string): boolean {
+  // One entry per open group: does it contain a repeat or a "|"?
+  const stack: boolean[] = [false];
+  for (let i = 0; i < src.length; i++) {
+    const c = src[i];
+    if (c === '\\') {
+      i++;
+      if (repeatAt(src, i + 1)) stack[stack.length - 1] = true;
+      continue;
+    }
+    if (c === '[') {
+      let j = i + 1;
+      if (src[j] === '^') j++;
+      if (src[j] === ']') j++;
+      while (j < src.length && src[j] !== ']') j += src[j] === '\\' ? 2 : 1;
+      i = j;
+      if (repeatAt(src, i + 1)) stack[stack.length - 1] = true;
+      continue;
+    }
+    if (c === '(') stack.push(false);
+    else if (c === ')' && stack.length > 1) {
+      const inner = stack.pop()!;
+      const repeated = repeatAt(src, i + 1) > 0;
+      if (inner && repeated) return true;
+      if (inner || repeated) stack[stack.length - 1] = true;
+    } else if (c === '|') stack[stack.length - 1] = true;
+    else if (repeatAt(src, i)) stack[stack.length - 1] = true;
+  }
+  return false;
+}
+
+const NESTED_REPEAT =
+  'repeats a group that itself repeats or has alternatives (e.g. "(\\d+)+"): on a garbled reply such a ' +
+  'pattern can take minutes; write it without the outer repeat, e.g. "(\\d+)"';
+
 const command = (what: string) =>
   z
     .string({ error: `must be text (${what})` })
@@ -36,6 +87,7 @@ const pattern = z
   .superRefine((src, ctx) => {
     const groups = captureGroups(src);
     if (groups < 0) ctx.addIssue({ code: 'custom', message: `"${src}" is not a valid regular expression` });
+    else if (hasNestedRepeat(src)) ctx.addIssue({ code: 'custom', message: `"${src}" ${NESTED_REPEAT}` });
     else if (groups < 1)
       ctx.addIssue({
         code: 'custom',
@@ -47,7 +99,8 @@ const ackPattern = z
   .string()
   .min(1, 'must not be empty (use null when the receiver sends no reply)')
   .max(200, 'must be at most 200 characters')
-  .refine((src) => captureGroups(src) >= 0, 'is not a valid regular expression');
+  .refine((src) => captureGroups(src) >= 0, 'is not a valid regular expression')
+  .refine((src) => !hasNestedRepeat(src), NESTED_REPEAT);
 
 export const SerialTemplateSchema = z.strictObject({
   /** Short name used on the command line and in receiver profiles, e.g. "db-over-s9". */
