@@ -41,6 +41,8 @@ export class ReceiverDesk {
    * take none; EINVAL for a serial source without one.
    */
   templateFor(source: string, template: unknown): SerialTemplate | null {
+    if (template != null && template !== '' && !source.startsWith('serial:'))
+      throw new BenchError('EINVAL', 'only a serial receiver takes a command-set template', 'template');
     if (template != null && typeof template === 'object')
       return validateTemplate(template, 'receiver.template');
     const name = typeof template === 'string' ? template : templateNameInSpec(source);

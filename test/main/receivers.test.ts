@@ -108,6 +108,16 @@ describe('receiver profiles and the guided calibration', () => {
           {
             name: 'x',
             source: 'net:127.0.0.1:4532',
+            template: 'db-over-s9',
+            bandwidthHz: 500,
+            maxInputDbm: 10,
+          },
+          'template',
+        ],
+        [
+          {
+            name: 'x',
+            source: 'net:127.0.0.1:4532',
             bandwidthHz: 500,
             maxInputDbm: 10,
             calibration: {
