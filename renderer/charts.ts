@@ -110,7 +110,10 @@ export class NullChart {
         animation: false,
         maintainAspectRatio: false,
         parsing: false,
-        plugins: { legend: { position: 'bottom', labels: { boxWidth: 12 } } },
+        // Datasets without a label (the lower edge of a band) stay out of the legend.
+        plugins: {
+          legend: { position: 'bottom', labels: { boxWidth: 12, filter: (item) => item.text !== '' } },
+        },
         scales: {
           x: { type: 'linear', title: { display: true, text: 'trimmer position' } },
           y: { type: 'linear', title: { display: true, text: 'carrier at transmitter (dBm)' } },
@@ -181,6 +184,7 @@ export class NullChart {
     this.chart.data.datasets = datasets;
     // The plotted points, as data for assistive tools and tests (a canvas has no text of its own).
     this.canvas.dataset.points = JSON.stringify(sorted);
+    this.canvas.dataset.series = JSON.stringify(datasets.map((d) => d.label).filter(Boolean));
     this.canvas.setAttribute('aria-label', `null chart, ${sorted.length} points against ${xLabel}`);
     const xs = this.chart.options.scales?.x;
     if (xs && 'title' in xs && xs.title) xs.title.text = xLabel;

@@ -15,6 +15,7 @@ import { NullChart, StripChart } from '../charts';
 import { clear, h } from '../dom';
 import { dbm, mhz, signed, sUnits } from '../format';
 import { PlanPanel } from './plan';
+import { GuidePanel } from './guide';
 
 const ROLES: PointRole[] = ['carrier', 'upper', 'lower', 'imd3u', 'imd3l', 'reference', 'floor'];
 
@@ -29,6 +30,8 @@ export class BenchView {
   private readonly els: Record<string, HTMLElement> = {};
   private trimInputs = new Map<string, HTMLInputElement>();
   private busy = false;
+  /** Guided alignment and the null map (their own files: views/guide.ts, views/nullmap.ts). */
+  private guide: GuidePanel | null = null;
 
   constructor(
     root: HTMLElement,
@@ -58,6 +61,7 @@ export class BenchView {
   onStatus(s: Status): void {
     this.status = s;
     if (!this.session || s.activeSessionId !== this.session.id) return;
+    this.guide?.onStatus(s);
     for (const [k, el] of this.trimInputs) {
       if (document.activeElement !== el && typeof s.trims[k] === 'number')
         el.value = String(round(s.trims[k], 3));
@@ -94,6 +98,7 @@ export class BenchView {
       .filter(Boolean)
       .join(' · ');
     this.strip.push(r.t, r.dbmDut);
+    this.guide?.onReading(r);
   }
 
   /** The tone level the carrier is compared with: the mean of the kept upper and lower tone readings. */
@@ -334,12 +339,24 @@ export class BenchView {
       ),
     );
 
+    this.guide = new GuidePanel(this.api, s, this.notify, {
+      keep: () => this.keep(true),
+      fitted: () => this.refreshKept(false),
+    });
     this.root.append(
       h(
         'div',
         { class: 'grid' },
-        h('div', { class: 'stack' }, levelCard, nullCard, keptCard, this.plan.element(s)),
-        h('div', { class: 'stack' }, trimCard, roleCard, sweepCard, setup),
+        h(
+          'div',
+          { class: 'stack' },
+          levelCard,
+          nullCard,
+          this.guide.mapElement(),
+          keptCard,
+          this.plan.element(s),
+        ),
+        h('div', { class: 'stack' }, this.guide.element(), trimCard, roleCard, sweepCard, setup),
       ),
     );
     this.strip = new StripChart(stripCanvas);
@@ -355,10 +372,11 @@ export class BenchView {
     }
   }
 
-  async keep(): Promise<void> {
+  /** @param waitSettled keep the next steady reading after the last change, not simply the latest */
+  async keep(waitSettled = false): Promise<void> {
     if (this.busy) return;
     try {
-      const r = await this.api.call('keep', { note: '' });
+      const r = await this.api.call('keep', { note: this.guide?.keepNote() ?? '', waitSettled });
       this.kept.push(r);
       this.refreshKept();
       this.notify(
@@ -407,7 +425,8 @@ export class BenchView {
     if (this.els.sweepMsg) this.els.sweepMsg.textContent = `Sweeping: ${done}/${total} (${message})`;
   }
 
-  private refreshKept(): void {
+  /** @param refit ask the guide for a new fit (not when the guide itself asks for the redraw) */
+  private refreshKept(refit = true): void {
     const s = this.session!;
     const body = this.els.keptBody;
     clear(body);
@@ -439,7 +458,8 @@ export class BenchView {
           .join(', '),
       }));
     const now = this.status?.trims[def.key] ?? null;
-    this.nullChart.show(pts, `${def.label} (${def.unit})`, now);
+    this.nullChart.show(pts, `${def.label} (${def.unit})`, now, this.guide?.chartExtras(def.key) ?? []);
+    if (refit) void this.guide?.refresh(this.kept, def.key);
     this.els.nullNote.textContent = pts.length
       ? `${pts.length} carrier readings. Deepest so far: ${dbm(Math.min(...pts.map((p) => p.y)))} dBm.`
       : 'No carrier readings kept yet: set a trimmer, wait for "steady", keep. Repeat on both sides of the dip.';
