@@ -61,6 +61,7 @@ export class GuidePanel {
   private again = false;
   private kept: Reading[] = [];
   private chartKey: string;
+  private keeping = false;
 
   constructor(
     private readonly api: ServiceClient,
@@ -107,7 +108,7 @@ export class GuidePanel {
     );
     e.keep = h(
       'button',
-      { type: 'button', class: 'primary', id: 'guide-keep', onclick: () => void this.hooks.keep() },
+      { type: 'button', class: 'primary', id: 'guide-keep', onclick: () => void this.keepOnce() },
       'Keep this reading',
     );
     e.carrier = h(
@@ -345,6 +346,19 @@ export class GuidePanel {
   onReading(r: LiveReading): void {
     this.steady = r.settled && r.role === 'carrier';
     this.steps();
+  }
+
+  /** Keep the next steady reading; a second click while waiting for it keeps nothing more. */
+  private async keepOnce(): Promise<void> {
+    if (this.keeping) return;
+    this.keeping = true;
+    (this.els.keep as HTMLButtonElement).disabled = true;
+    try {
+      await this.hooks.keep();
+    } finally {
+      this.keeping = false;
+      (this.els.keep as HTMLButtonElement).disabled = false;
+    }
   }
 
   private async setSuggested(): Promise<void> {
