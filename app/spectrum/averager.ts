@@ -1,6 +1,7 @@
 // Runs anywhere (app/ is runtime-free). Windowed FFT frames averaged into one power spectrum.
-import { check } from '../errors';
+import { BenchError, check } from '../errors';
 import { Fft } from './fft';
+import { U8Windower } from './u8simd';
 import { Window } from './window';
 
 /** An averaged power spectrum as SpectrumAverager.spectrum() gives it. */
@@ -28,14 +29,20 @@ export class SpectrumAverager {
   private constructor(
     readonly window: Window,
     private readonly fft: Fft,
+    /** SIMD conversion of 8-bit frames where the runtime has WebAssembly SIMD; else plain JS. */
+    private readonly u8: U8Windower | null,
   ) {
     this.acc = new Float64Array(window.n);
     this.out = new Float64Array(window.n);
   }
 
-  /** An averager of window.n-point frames (async: the FFT's WASM module loads on first use). */
-  static async create(window: Window): Promise<SpectrumAverager> {
-    return new SpectrumAverager(window, await Fft.create(window.n));
+  /**
+   * An averager of window.n-point frames (async: the FFT's WASM module loads on first use).
+   * @param simd convert 8-bit frames with WebAssembly SIMD where available (false: plain JS, for checks)
+   */
+  static async create(window: Window, simd = true): Promise<SpectrumAverager> {
+    const fft = await Fft.create(window.n);
+    return new SpectrumAverager(window, fft, simd ? U8Windower.create(window.values) : null);
   }
 
   get n(): number {
@@ -59,11 +66,8 @@ export class SpectrumAverager {
    */
   pushComplex(iq: Float32Array, start = 0): void {
     const n = this.n;
-    check(
-      Number.isInteger(start) && start >= 0 && 2 * (start + n) <= iq.length,
-      'samples',
-      `a frame needs ${n} complex samples from sample ${start}, but only ${Math.max(0, iq.length / 2 - start)} are there`,
-    );
+    if (!(Number.isInteger(start) && start >= 0 && 2 * (start + n) <= iq.length))
+      frameError(n, start, iq.length);
     const w = this.window.values;
     const x = this.fft.input();
     let j = 2 * start;
@@ -85,20 +89,21 @@ export class SpectrumAverager {
    */
   pushU8(bytes: Uint8Array, start = 0, zero = 127.5): void {
     const n = this.n;
-    check(
-      Number.isInteger(start) && start >= 0 && 2 * (start + n) <= bytes.length,
-      'samples',
-      `a frame needs ${n} complex samples from sample ${start}, but only ${Math.max(0, bytes.length / 2 - start)} are there`,
-    );
-    check(zero >= 0 && zero <= 255, 'zero', `must be between 0 and 255, got ${zero}`);
-    const scale = 1 / Math.max(zero, 255 - zero);
-    const w = this.window.values;
+    if (!(Number.isInteger(start) && start >= 0 && 2 * (start + n) <= bytes.length))
+      frameError(n, start, bytes.length);
+    if (!(zero >= 0 && zero <= 255)) check(false, 'zero', `must be between 0 and 255, got ${zero}`);
     const x = this.fft.input();
-    let j = 2 * start;
-    for (let i = 0; i < n; i++, j += 2) {
-      const wi = w[i] * scale;
-      x[2 * i] = (bytes[j] - zero) * wi;
-      x[2 * i + 1] = (bytes[j + 1] - zero) * wi;
+    if (this.u8) {
+      this.u8.convert(bytes, start, zero, x);
+    } else {
+      const scale = 1 / Math.max(zero, 255 - zero);
+      const w = this.window.values;
+      let j = 2 * start;
+      for (let i = 0; i < n; i++, j += 2) {
+        const wi = w[i] * scale;
+        x[2 * i] = (bytes[j] - zero) * wi;
+        x[2 * i + 1] = (bytes[j + 1] - zero) * wi;
+      }
     }
     this.accumulate();
   }
@@ -164,4 +169,13 @@ export class SpectrumAverager {
   toString(): string {
     return `SpectrumAverager(n=${this.n}, window=${this.window.name}, averages=${this.count})`;
   }
+}
+
+/** Called per frame: the message is built only when the frame does not fit. */
+function frameError(n: number, start: number, length: number): never {
+  throw new BenchError(
+    'EINVAL',
+    `a frame needs ${n} complex samples from sample ${start}, but only ${Math.max(0, length / 2 - start)} are there`,
+    'samples',
+  );
 }

@@ -3,6 +3,7 @@ import assert from 'node:assert/strict';
 import { BenchError } from '../../app/errors';
 import { createFft, Fft, isFftSize } from '../../app/spectrum/fft';
 import { SpectrumAverager } from '../../app/spectrum/averager';
+import { U8Windower } from '../../app/spectrum/u8simd';
 import { Window } from '../../app/spectrum/window';
 import { Rng } from '../../main/sim/rng';
 import { f32bytes, f64from, python } from '../helpers/python';
@@ -130,25 +131,49 @@ describe('SpectrumAverager', () => {
     avg.dispose();
   });
 
-  it('converts 8-bit samples with the given zero offset like the float path', async () => {
-    const n = 256;
-    const w = Window.hann(n);
-    const a = await SpectrumAverager.create(w);
-    const b = await SpectrumAverager.create(w);
-    const bytes = new Uint8Array(2 * n);
-    const rng = new Rng(3);
+  for (const simd of [true, false]) {
+    it(`converts 8-bit samples with the given zero offset like the float path (${simd ? 'WebAssembly SIMD' : 'plain JS'})`, async () => {
+      const n = 256;
+      const w = Window.hann(n);
+      const a = await SpectrumAverager.create(w, simd);
+      const b = await SpectrumAverager.create(w);
+      const bytes = new Uint8Array(4 * n);
+      const rng = new Rng(3);
+      for (let i = 0; i < bytes.length; i++) bytes[i] = Math.floor(rng.next() * 256);
+      const floats = new Float32Array(4 * n);
+      for (let i = 0; i < bytes.length; i++) floats[i] = (bytes[i] - 127.4) / 127.6;
+      a.pushU8(bytes, 37, 127.4); // an odd start: frames need not be aligned
+      b.pushComplex(floats, 37);
+      const pa = a.power();
+      const pb = b.power();
+      const top = Math.max(...pb);
+      for (let k = 0; k < n; k++)
+        assert.ok(Math.abs(pa[k] - pb[k]) <= 1e-5 * top, `bin ${k}: ${pa[k]} vs ${pb[k]}`);
+      a.dispose();
+      b.dispose();
+    });
+  }
+
+  it("U8Windower gives the plain loop's floats to within float32 rounding, and follows a new zero", () => {
+    const n = 1024;
+    const w = Window.blackmanHarris4(n);
+    const conv = U8Windower.create(w.values);
+    assert.ok(conv, 'WebAssembly SIMD is available on Node 20');
+    const bytes = new Uint8Array(2 * n + 6);
+    const rng = new Rng(8);
     for (let i = 0; i < bytes.length; i++) bytes[i] = Math.floor(rng.next() * 256);
-    const floats = new Float32Array(2 * n);
-    for (let i = 0; i < bytes.length; i++) floats[i] = (bytes[i] - 127.4) / 127.6;
-    a.pushU8(bytes, 0, 127.4);
-    b.pushComplex(floats);
-    const pa = a.power();
-    const pb = b.power();
-    const top = Math.max(...pb);
-    for (let k = 0; k < n; k++)
-      assert.ok(Math.abs(pa[k] - pb[k]) <= 1e-5 * top, `bin ${k}: ${pa[k]} vs ${pb[k]}`);
-    a.dispose();
-    b.dispose();
+    for (const zero of [127.5, 128, 127]) {
+      const out = new Float32Array(2 * n);
+      conv.convert(bytes, 3, zero, out);
+      const scale = 1 / Math.max(zero, 255 - zero);
+      for (let i = 0; i < 2 * n; i++) {
+        const want = (bytes[6 + i] - zero) * w.values[i >> 1] * scale;
+        assert.ok(
+          Math.abs(out[i] - want) <= 2e-7 * Math.abs(want) + 1e-12,
+          `${zero} at ${i}: ${out[i]} vs ${want}`,
+        );
+      }
+    }
   });
 
   it('averages frames: two frames give the mean of their spectra; reset() starts over', async () => {
