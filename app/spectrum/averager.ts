@@ -80,8 +80,8 @@ export class SpectrumAverager {
   }
 
   /**
-   * Adds one frame of unsigned 8-bit samples (the SDR TCP stream, cu8 recordings), converting,
-   * windowing and transforming in one pass.
+   * Adds one frame of unsigned 8-bit samples (the SDR TCP stream, cu8 recordings): converted and
+   * windowed in one pass (WebAssembly SIMD where the runtime has it), then transformed.
    * @param bytes interleaved I,Q bytes
    * @param start index of the frame's first complex sample
    * @param zero the byte value of 0.0 (127.5 for most SDR dongles; 128 for WAV); full scale is the
