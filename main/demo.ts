@@ -101,84 +101,91 @@ export interface DemoSummary {
 export async function seedDemo(store: Store): Promise<DemoSummary> {
   if (store.tree().some((d) => d.name === DEMO_DESIGN))
     throw new BenchError('ECONFLICT', `the demo design "${DEMO_DESIGN}" is already in this database`, '--db');
-  let t0 = 0;
-  let leak = -60;
-  // Demo sessions run on a virtual clock so seeding takes seconds, and are dated on the day of the session.
-  const service = new Service({
-    store,
-    mode: 'cli',
-    createSource: (spec) => createSource(`${spec},fast,t0=${t0},leak=${leak}`),
-  });
-  const design = await service.invoke('createDesign', {
-    name: DEMO_DESIGN,
-    notes: 'A 40 m DSB transceiver kit with a diode ring balanced modulator (demo scenario, invented).',
-  });
-  let sessions = 0;
-  let kept = 0;
-  let units = 0;
-  for (const rev of REVISIONS) {
-    const r = await service.invoke('createRevision', {
-      designId: design.id,
-      name: rev.name,
-      changes: rev.changes,
+  // Invented data needs no fsync per stored reading (FULL durability is for real measurements): seeding
+  // takes seconds instead of minutes on a slow disk. FULL is back before this returns.
+  store.db.pragma('synchronous = NORMAL');
+  try {
+    let t0 = 0;
+    let leak = -60;
+    // Demo sessions run on a virtual clock so seeding takes seconds, and are dated on the day of the session.
+    const service = new Service({
+      store,
+      mode: 'cli',
+      createSource: (spec) => createSource(`${spec},fast,t0=${t0},leak=${leak}`),
     });
-    for (const u of rev.units) {
-      const unit = await service.invoke('createUnit', {
-        revisionId: r.id,
-        serial: u.serial,
-        buildDate: u.buildDate,
-        builder: u.builder,
+    const design = await service.invoke('createDesign', {
+      name: DEMO_DESIGN,
+      notes: 'A 40 m DSB transceiver kit with a diode ring balanced modulator (demo scenario, invented).',
+    });
+    let sessions = 0;
+    let kept = 0;
+    let units = 0;
+    for (const rev of REVISIONS) {
+      const r = await service.invoke('createRevision', {
+        designId: design.id,
+        name: rev.name,
+        changes: rev.changes,
       });
-      units++;
-      const day = Date.parse(`${u.buildDate}T19:30:00Z`) + 3 * 86400_000;
-      t0 = day;
-      leak = rev.leakageDbc;
-      const s = await service.invoke('createSession', {
-        unitId: unit.id,
-        receiver: {
-          name: 'Bench receiver (simulated)',
-          source: `sim:seed=${u.seed}`,
-          calibration: DEMO_CALIBRATION,
-          bandwidthHz: 500,
-          maxInputDbm: 10,
-        },
-        path: [
-          { kind: 'coupler', couplingDb: 30, tolDb: 0.5, label: 'sampler' },
-          { kind: 'pad', db: 20, tolDb: 0.3 },
-        ],
-        carrierHz: 7_100_000,
-        toneHz: 1000,
-        txPepDbm: 30,
-        operator: u.builder,
-        notes:
-          'Carrier null by trimmer A, then B, coarse then fine; tones, products, reference and floor afterwards.',
-        trims: TRIMS,
-      });
-      store.db
-        .prepare('UPDATE sessions SET started_at = ? WHERE id = ?')
-        .run(new Date(day).toISOString(), s.id);
-      await service.invoke('openSession', { sessionId: s.id });
-      // A coarse sweep of A with B where it came from the factory, then of B with A at its best, then finer
-      // passes around the best of each, as a builder closes in on the null until the layout's leakage stops it.
-      const pos: Record<string, number> = { A: 2, B: 5 };
-      for (const p of PASSES) {
-        const from = p.span === undefined ? p.from! : pos[p.trim] - p.span;
-        const to = p.span === undefined ? p.to! : pos[p.trim] + p.span;
-        const r = await service.invoke('sweep', { trim: p.trim, from, to, steps: p.steps });
-        pos[p.trim] = r.readings.reduce((m, x) => (x.dbmDut < m.dbmDut ? x : m)).trims[p.trim];
-        await service.invoke('setTrims', { trims: { [p.trim]: pos[p.trim] } });
-        kept += r.readings.length;
+      for (const u of rev.units) {
+        const unit = await service.invoke('createUnit', {
+          revisionId: r.id,
+          serial: u.serial,
+          buildDate: u.buildDate,
+          builder: u.builder,
+        });
+        units++;
+        const day = Date.parse(`${u.buildDate}T19:30:00Z`) + 3 * 86400_000;
+        t0 = day;
+        leak = rev.leakageDbc;
+        const s = await service.invoke('createSession', {
+          unitId: unit.id,
+          receiver: {
+            name: 'Bench receiver (simulated)',
+            source: `sim:seed=${u.seed}`,
+            calibration: DEMO_CALIBRATION,
+            bandwidthHz: 500,
+            maxInputDbm: 10,
+          },
+          path: [
+            { kind: 'coupler', couplingDb: 30, tolDb: 0.5, label: 'sampler' },
+            { kind: 'pad', db: 20, tolDb: 0.3 },
+          ],
+          carrierHz: 7_100_000,
+          toneHz: 1000,
+          txPepDbm: 30,
+          operator: u.builder,
+          notes:
+            'Carrier null by trimmer A, then B, coarse then fine; tones, products, reference and floor afterwards.',
+          trims: TRIMS,
+        });
+        store.db
+          .prepare('UPDATE sessions SET started_at = ? WHERE id = ?')
+          .run(new Date(day).toISOString(), s.id);
+        await service.invoke('openSession', { sessionId: s.id });
+        // A coarse sweep of A with B where it came from the factory, then of B with A at its best, then finer
+        // passes around the best of each, as a builder closes in on the null until the layout's leakage stops it.
+        const pos: Record<string, number> = { A: 2, B: 5 };
+        for (const p of PASSES) {
+          const from = p.span === undefined ? p.from! : pos[p.trim] - p.span;
+          const to = p.span === undefined ? p.to! : pos[p.trim] + p.span;
+          const r = await service.invoke('sweep', { trim: p.trim, from, to, steps: p.steps });
+          pos[p.trim] = r.readings.reduce((m, x) => (x.dbmDut < m.dbmDut ? x : m)).trims[p.trim];
+          await service.invoke('setTrims', { trims: { [p.trim]: pos[p.trim] } });
+          kept += r.readings.length;
+        }
+        for (const role of FINAL_POINTS) {
+          await service.invoke('tune', { role });
+          await service.invoke('keep', { note: role === 'carrier' ? 'final null' : '', waitSettled: true });
+          kept++;
+        }
+        await service.invoke('closeSession', {});
+        store.endSession(s.id, new Date(day + 40 * 60_000).toISOString());
+        sessions++;
       }
-      for (const role of FINAL_POINTS) {
-        await service.invoke('tune', { role });
-        await service.invoke('keep', { note: role === 'carrier' ? 'final null' : '', waitSettled: true });
-        kept++;
-      }
-      await service.invoke('closeSession', {});
-      store.endSession(s.id, new Date(day + 40 * 60_000).toISOString());
-      sessions++;
     }
+    await service.close();
+    return { designId: design.id, units, sessions, keptReadings: kept };
+  } finally {
+    store.db.pragma('synchronous = FULL');
   }
-  await service.close();
-  return { designId: design.id, units, sessions, keptReadings: kept };
 }
