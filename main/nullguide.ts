@@ -25,7 +25,7 @@ export function nullHandlers(store: Store, live: () => LiveBench | null): NullHa
         'sessionId',
       );
     const session = store.getSession(sessionId);
-    session.trims.forEach((t, i) => trimStep(t, `session trims[${i}]`));
+    session.trims.forEach((t, i) => trimStep(t, `session.trims[${i}]`));
     const open = l && l.session.id === sessionId ? l : null;
     const kept = store.readings(sessionId, { keptOnly: true }).filter((r) => r.role === 'carrier');
     // Where the trimmers stand: as the open bench knows them, else as the latest kept reading had them.

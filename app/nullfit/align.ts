@@ -149,13 +149,16 @@ interface Selection {
   resolution: Record<string, number>;
 }
 
-/** The trimmer's settable step: its own, or 1/2000 of the travel. */
-export function trimStep(t: AlignTrim, field = 'trims'): number {
+/**
+ * The trimmer's settable step: its own, or 1/2000 of the travel.
+ * @param field where the trimmer's definition is, for the error ("session.trims[1]")
+ */
+export function trimStep(t: AlignTrim, field = `trims.${t.key}`): number {
   const span = t.max - t.min;
   if (t.step === undefined) return span / 2000;
   check(
     Number.isFinite(t.step) && t.step > 0 && t.step <= span,
-    `${field}.${t.key}.step`,
+    `${field}.step`,
     `must be above 0 and at most the travel (${span} ${t.unit}), got ${t.step}`,
   );
   return t.step;

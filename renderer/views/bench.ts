@@ -422,7 +422,9 @@ export class BenchView {
   }
 
   onProgress(done: number, total: number, message: string): void {
-    if (this.els.sweepMsg) this.els.sweepMsg.textContent = `Sweeping: ${done}/${total} (${message})`;
+    // Only while the sweep runs: its last progress event may arrive after the result has said "Done".
+    if (this.els.sweepMsg && this.busy)
+      this.els.sweepMsg.textContent = `Sweeping: ${done}/${total} (${message})`;
   }
 
   /** @param refit ask the guide for a new fit (not when the guide itself asks for the redraw) */
