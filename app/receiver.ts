@@ -149,3 +149,37 @@ export function calibrationFor(own: unknown, quantity: CalibrationQuantity): Cal
     );
   return cal;
 }
+
+/**
+ * A calibration with one band fitted afresh (a guided calibration on one band): bands it overlaps are cut back
+ * at its edges (or dropped when it covers them), so a receiver can be calibrated band by band.
+ */
+export function mergeBand(existing: Calibration, fresh: Calibration): Calibration {
+  if (existing.quantity !== fresh.quantity)
+    throw new BenchError(
+      'EINVAL',
+      `the new table maps ${fresh.quantity} but the receiver's calibration maps ${existing.quantity}`,
+      'calibration.quantity',
+    );
+  const nb = fresh.bands[0];
+  const bands = [];
+  for (const b of existing.bands) {
+    if (b.toHz <= nb.fromHz || b.fromHz >= nb.toHz) bands.push(b);
+    else {
+      if (b.fromHz < nb.fromHz) bands.push({ ...b, toHz: nb.fromHz });
+      if (b.toHz > nb.toHz) bands.push({ ...b, fromHz: nb.toHz });
+    }
+  }
+  bands.push(nb);
+  bands.sort((a, b) => a.fromHz - b.fromHz);
+  return validateCalibration({
+    ...existing,
+    bands,
+    uDb: Math.max(existing.uDb ?? 0.5, fresh.uDb ?? 0.5),
+    ...(fresh.madeAt ? { madeAt: fresh.madeAt } : {}),
+    note: `${existing.note ? `${existing.note} ` : ''}${(nb.fromHz / 1e6).toFixed(3)}-${(nb.toHz / 1e6).toFixed(3)} MHz: ${fresh.note ?? 'refitted'}`.slice(
+      0,
+      2000,
+    ),
+  });
+}

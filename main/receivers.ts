@@ -5,7 +5,7 @@ import type { ReceiverProfile } from '../app/api';
 import type { CalibrationReadResult, FitResult } from '../app/api/rxcalls';
 import { fitCalibrationFromInjections, applyCalibration, type CalibrationQuantity } from '../app/calibration';
 import { BenchError } from '../app/errors';
-import { calibrationFor, InjectionSchema } from '../app/receiver';
+import { calibrationFor, InjectionSchema, mergeBand } from '../app/receiver';
 import { validateTemplate, type SerialTemplate } from '../app/serialtemplate';
 import { benchErrorFromZod } from '../app/zodissue';
 import { createSource, findDriver } from './sources';
@@ -122,13 +122,30 @@ export class ReceiverDesk {
     const template = this.templateFor(rx.source, rx.template);
     const quantity = (findDriver(rx.source).quantity?.(rx.source, template ? { template } : {}) ??
       'strength-db') as CalibrationQuantity;
+    // The new band reaches an octave either side of its frequencies, but only halfway (geometrically) to a
+    // frequency calibrated before, so each calibrated frequency keeps the table made there.
+    const freqs = inj.map((x) => x.freqHz);
+    const lo = Math.min(...freqs);
+    const hi = Math.max(...freqs);
+    const before = rx.calibration?.quantity === quantity ? rx.injections.map((x) => x.freqHz) : [];
+    const below = before.filter((f) => f < lo);
+    const above = before.filter((f) => f > hi);
+    const fromHz = below.length ? Math.max(lo / 2, Math.sqrt(Math.max(...below) * lo)) : lo / 2;
+    const toHz = above.length ? Math.min(hi * 2, Math.sqrt(Math.min(...above) * hi)) : hi * 2;
     const calibration = fitCalibrationFromInjections(inj, name ?? `${rx.name} (guided calibration)`, {
       quantity,
+      fromHz,
+      toHz,
       madeAt: new Date().toISOString().slice(0, 10),
     });
     const points = inj.map((p) => ({ raw: p.raw, dbm: applyCalibration(calibration, p.raw, p.freqHz).dbm }));
-    const receiver = save ? this.repo.setCalibration(rx.id, calibration, inj) : null;
-    return { calibration, points, receiver };
+    // Calibrated band by band: the new band replaces what the old table said there, the rest stays.
+    const own = rx.calibration && rx.calibration.quantity === quantity ? rx.calibration : null;
+    const merged = own ? mergeBand(own, calibration) : calibration;
+    const band = calibration.bands[0];
+    const keptInj = own ? rx.injections.filter((x) => x.freqHz < band.fromHz || x.freqHz >= band.toHz) : [];
+    const receiver = save ? this.repo.setCalibration(rx.id, merged, [...keptInj, ...inj]) : null;
+    return { calibration: merged, points, receiver };
   }
 
   handlers(): Pick<

@@ -14,7 +14,7 @@ import {
   type PlanPointResult,
   type PointAverage,
 } from '../../app/plan';
-import { defaultCalibrationFor, iaruR1SUnitCalibration } from '../../app/receiver';
+import { defaultCalibrationFor, iaruR1SUnitCalibration, mergeBand } from '../../app/receiver';
 
 const avg = (dbmDut: number, extra: Partial<PointAverage> = {}): PointAverage => ({
   n: 5,
@@ -187,6 +187,47 @@ describe('receiver.defaultCalibrationFor()', () => {
       () => defaultCalibrationFor('raw'),
       (e: unknown) =>
         e instanceof BenchError && e.field === 'calibration' && /guided calibration/.test(e.message),
+    );
+  });
+});
+
+describe('receiver.mergeBand()', () => {
+  const cal = (name: string, bands: [number, number, number][]) => ({
+    name,
+    quantity: 'strength-db' as const,
+    bands: bands.map(([fromHz, toHz, off]) => ({
+      fromHz,
+      toHz,
+      points: [
+        { raw: -40, dbm: -113 + off },
+        { raw: 20, dbm: -53 + off },
+      ],
+    })),
+  });
+
+  it('puts a band fitted afresh in place, cutting back the bands it overlaps and keeping the rest', () => {
+    const old = cal('rx', [
+      [0, 5e6, 0],
+      [5e6, 20e6, 1],
+      [20e6, 30e6, 2],
+    ]);
+    const m = mergeBand(old, cal('fresh', [[6e6, 10e6, 5]]));
+    assert.deepEqual(
+      m.bands.map((b) => [b.fromHz, b.toHz, b.points[0].dbm]),
+      [
+        [0, 5e6, -113],
+        [5e6, 6e6, -112],
+        [6e6, 10e6, -108],
+        [10e6, 20e6, -112],
+        [20e6, 30e6, -111],
+      ],
+    );
+    assert.equal(m.name, 'rx');
+    // A band covering others whole drops them.
+    assert.equal(mergeBand(old, cal('wide', [[0, 40e6, 3]])).bands.length, 1);
+    assert.throws(
+      () => mergeBand(old, { ...cal('s', [[1e6, 2e6, 0]]), quantity: 's-units' }),
+      /maps s-units/,
     );
   });
 });

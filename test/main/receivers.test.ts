@@ -230,6 +230,38 @@ describe('receiver profiles and the guided calibration', () => {
     }
   });
 
+  it('calibrates band by band: a second band joins the first halfway (geometrically) between them', async () => {
+    const t = await fresh();
+    try {
+      const rx = await t.service.invoke('saveReceiver', {
+        receiver: { name: 'Two-band rig', source: 'net:127.0.0.1:4532', bandwidthHz: 2400, maxInputDbm: 0 },
+      });
+      const inj = (freqHz: number, off: number) => [
+        { freqHz, generatorDbm: -80 + off, padDb: 40, raw: -40 },
+        { freqHz, generatorDbm: -40 + off, padDb: 40, raw: 2 },
+      ];
+      await t.service.invoke('fitCalibration', { receiverId: rx.id, injections: inj(7.1e6, 0), save: true });
+      const r = await t.service.invoke('fitCalibration', {
+        receiverId: rx.id,
+        injections: inj(14.2e6, 10),
+        save: true,
+      });
+      const bands = r.calibration.bands.map((b) => [
+        Math.round(b.fromHz),
+        Math.round(b.toHz),
+        b.points[0].dbm,
+      ]);
+      // 7.1 MHz keeps its table up to sqrt(7.1 x 14.2) MHz = 7.1 x sqrt(2) = 10.0409 MHz (computed); 14.2 MHz's reaches an octave up.
+      assert.deepEqual(bands, [
+        [3.55e6, 10040916, -120],
+        [10040916, 28.4e6, -110],
+      ]);
+      assert.equal(r.receiver?.injections.length, 4);
+    } finally {
+      await t.cleanup();
+    }
+  });
+
   it('needs a table for a receiver that reports raw counts, and says so when a session is set up without one', async () => {
     const t = await fresh();
     try {
