@@ -253,7 +253,11 @@ export class PlanPanel {
             r.dbmDut === null ? '—' : `${r.floorLimited ? '≤ ' : ''}${dbm(r.dbmDut, 2)}`,
           ),
           h('td', { class: 'num' }, r.uDb === null ? '—' : (2 * r.uDb).toFixed(2)),
-          h('td', { class: 'num' }, r.relDb === null ? '—' : dbm(r.relDb, 2)),
+          h(
+            'td',
+            { class: 'num' },
+            r.relDb === null ? '—' : `${r.floorLimited ? '≤ ' : ''}${dbm(r.relDb, 2)}`,
+          ),
           h('td', { class: 'num' }, r.uRelDb === null ? '—' : (2 * r.uRelDb).toFixed(2)),
           h('td', { class: 'flag' }, flags.join(', ')),
         ),

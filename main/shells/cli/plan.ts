@@ -64,7 +64,7 @@ export function planTableText(v: PlanView): string {
       `${ROLE_LABELS[r.role].padEnd(32)} ${(r.freqHz / 1e6).toFixed(6).padStart(10)}   ` +
       `${(r.floorLimited ? '≤' : '') + fmt(r.dbmDut, 2)}`.padStart(9) +
       `   ${r.uDb === null ? '—'.padStart(8) : (2 * r.uDb).toFixed(2).padStart(8)}` +
-      `   ${fmt(r.relDb, 2).padStart(11)}   ${r.uRelDb === null ? '—'.padStart(8) : (2 * r.uRelDb).toFixed(2).padStart(8)}` +
+      `   ${((r.floorLimited && r.relDb !== null ? '≤' : '') + fmt(r.relDb, 2)).padStart(11)}   ${r.uRelDb === null ? '—'.padStart(8) : (2 * r.uRelDb).toFixed(2).padStart(8)}` +
       `   ${p?.avg ? String(p.avg.n) : '-'}${flags ? `  (${flags})` : ''}`
     );
   });
