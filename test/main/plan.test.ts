@@ -290,6 +290,48 @@ describe('plans on real links', () => {
     }
   });
 
+  it('warns (once) when readings come within 10 dB of the rated maximum, and flags them and the plan point', async () => {
+    // STRENGTH +60 dB re S9 is -13 dBm at the receiver (IARU R.1); rated -3 dBm: 10 dB of headroom left.
+    const srv = new RigServer({ script: [60] });
+    const port = await srv.listen();
+    const b = await bareService();
+    try {
+      const notices: { level: string; code?: string; message: string }[] = [];
+      b.service.listen('notice', (n) => notices.push(n));
+      const s = await b.session(`net:127.0.0.1:${port}`, {
+        receiver: {
+          name: 'rx',
+          source: `net:127.0.0.1:${port}`,
+          calibration: null,
+          bandwidthHz: 500,
+          maxInputDbm: -3,
+        },
+      });
+      const v0 = await b.service.invoke('planStart', {
+        sessionId: s.id,
+        plan: { points: ['upper', 'lower'], average: 3, settleMs: 0, settleTimeoutMs: 500 },
+      });
+      const v = await b.service.plans.wait(v0.id);
+      assert.ok(v.rows.every((r) => r.overload));
+      assert.ok(b.store.readings(s.id).every((r) => r.overload && r.dbmRx === -13));
+      const live = notices.filter(
+        (n) =>
+          n.level === 'warn' &&
+          /reads -13\.0 dBm at its input, within 10 dB of its rated maximum/.test(n.message),
+      );
+      assert.equal(live.length, 1, 'the live warning is not repeated for every reading');
+      assert.match(live[0].message, /Add attenuation/);
+      assert.ok(
+        notices.some(
+          (n) => n.code === 'EUNSAFE' && /Upper tone: the receiver reads within 10 dB/.test(n.message),
+        ),
+      );
+    } finally {
+      await b.cleanup();
+      await srv.close();
+    }
+  });
+
   it('stops at a declined manual step, resumable', async () => {
     const srv = new RigServer({ script: [-30] });
     const port = await srv.listen();
