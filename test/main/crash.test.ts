@@ -67,6 +67,7 @@ function logAndKill(
   seed: number,
   rateHz: number,
   killAfterMs: number,
+  fromSpawn: boolean,
 ): Promise<Trial> {
   return new Promise((resolve, reject) => {
     const child = spawn(
@@ -91,9 +92,21 @@ function logAndKill(
     );
     let out = '';
     let err = '';
-    child.stdout.on('data', (b: Buffer) => (out += b.toString()));
+    // The kill clock starts when readings begin to flow (or at spawn, for the start-up trials), so a
+    // slow start on a loaded machine cannot turn every trial into a kill before the first reading.
+    let timer = fromSpawn
+      ? setTimeout(() => child.kill('SIGKILL'), killAfterMs)
+      : setTimeout(() => child.kill('SIGKILL'), 30_000);
+    let flowing = fromSpawn;
+    child.stdout.on('data', (b: Buffer) => {
+      out += b.toString();
+      if (!flowing) {
+        flowing = true;
+        clearTimeout(timer);
+        timer = setTimeout(() => child.kill('SIGKILL'), killAfterMs);
+      }
+    });
     child.stderr.on('data', (b: Buffer) => (err += b.toString()));
-    const timer = setTimeout(() => child.kill('SIGKILL'), killAfterMs);
     child.on('error', reject);
     child.on('close', (_code, signal) => {
       clearTimeout(timer);
@@ -119,8 +132,11 @@ describe('nullbench log under SIGKILL', () => {
         // Half the trials log into a database that earlier trials already filled (and were killed over).
         const db = join(tmp.dir, `log-${trial % 2 === 0 ? trial : trial - 1}.db`);
         const rateHz = 20 + Math.round(30 * rnd());
-        const killAfterMs = 150 + Math.round(1600 * rnd());
-        const r = await logAndKill(cli, db, trial + 1, rateHz, killAfterMs);
+        // One trial in four is killed on the clock from spawn (perhaps during start-up or a migration);
+        // the others at a random moment after the first acknowledged reading.
+        const fromSpawn = trial % 4 === 3;
+        const killAfterMs = (fromSpawn ? 150 : 0) + Math.round(1600 * rnd());
+        const r = await logAndKill(cli, db, trial + 1, rateHz, killAfterMs, fromSpawn);
         assert.equal(r.signal, 'SIGKILL', `${where}: the logger ended by itself: ${r.stderr}`);
         if (r.acks.length) killedMidRun++;
         acked += r.acks.length;
