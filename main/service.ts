@@ -23,6 +23,7 @@ import { nullHandlers } from './nullguide';
 import { chromiumPdf, type PdfRenderer } from './sheet/pdf';
 import { seedDemo } from './demo';
 import { PlanDesk } from './plans';
+import { SpectrumDesk } from './bench/spectrum-live';
 import { ReceiverDesk } from './receivers';
 import { createSource, findDriver } from './sources';
 import type { LevelSource, SourceEnv } from './sources/types';
@@ -57,6 +58,7 @@ export class Service {
   private readonly handlers: Handlers;
   readonly receivers: ReceiverDesk;
   readonly plans: PlanDesk;
+  readonly spectrum: SpectrumDesk;
   private lastOverloadWarning = 0;
 
   constructor(opts: ServiceOptions) {
@@ -77,6 +79,12 @@ export class Service {
       progress: (p) => this.emit('progress', p),
       notice: (n) => this.emit('notice', n),
       caution: RF_CAUTION,
+    });
+    this.spectrum = new SpectrumDesk({
+      store: this.store,
+      live: () => this.live,
+      emit: (f) => this.emit('spectrum', f),
+      failed: (e) => this.emit('notice', { level: 'error', code: e.code, message: `spectrum: ${e.message}` }),
     });
     const pdf = opts.pdf ?? chromiumPdf;
     this.handlers = {
@@ -116,6 +124,7 @@ export class Service {
       ...this.receivers.handlers(),
       ...this.plans.handlers(),
       ...nullHandlers(this.store, () => this.live),
+      ...this.spectrum.handlers(),
     };
   }
 
@@ -259,6 +268,7 @@ export class Service {
 
   private async closeSession(): Promise<null> {
     await this.plans.stopAll();
+    await this.spectrum.stop();
     const l = this.live;
     this.live = null;
     if (l) {

@@ -12,6 +12,7 @@ import {
 import { RECORD_CALLS } from './records';
 import { RECEIVER_CALLS } from './rxcalls';
 import { NULL_CALLS } from './nullcalls';
+import { SPECTRUM_CALLS } from './spectrumcalls';
 
 const SessionRef = z.object({ sessionId: z.string().min(1).max(64) });
 
@@ -54,13 +55,14 @@ export const CALLS = {
   }),
   ...RECEIVER_CALLS,
   ...NULL_CALLS,
+  ...SPECTRUM_CALLS,
 } as const;
 
 export type CallName = keyof typeof CALLS;
 export type CallArgs<K extends CallName> = z.input<(typeof CALLS)[K]>;
 export type ParsedArgs<K extends CallName> = z.output<(typeof CALLS)[K]>;
 
-export const EVENTS = ['reading', 'status', 'progress', 'notice'] as const;
+export const EVENTS = ['reading', 'status', 'progress', 'notice', 'spectrum'] as const;
 export type EventName = (typeof EVENTS)[number];
 
 export interface ProgressEvent {

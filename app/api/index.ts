@@ -5,3 +5,4 @@ export * from './service';
 export * from './rxcalls';
 export * from './records';
 export * from './nullcalls';
+export * from './spectrumcalls';

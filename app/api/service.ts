@@ -4,6 +4,7 @@ import type { CallArgs, CallName, NoticeEvent, ProgressEvent } from './contract'
 import type { RecordCallResults } from './records';
 import type { ReceiverCallResults } from './rxcalls';
 import type { NullCallResults } from './nullcalls';
+import type { SpectrumCallResults, SpectrumFrame } from './spectrumcalls';
 import type {
   Design,
   LiveReading,
@@ -20,7 +21,8 @@ export interface SweepResult {
   readings: Reading[];
 }
 
-export interface CallResults extends ReceiverCallResults, RecordCallResults, NullCallResults {
+export interface CallResults
+  extends ReceiverCallResults, RecordCallResults, NullCallResults, SpectrumCallResults {
   status: Status;
   tree: Tree;
   createDesign: Design;
@@ -44,6 +46,7 @@ export interface EventPayloads {
   status: Status;
   progress: ProgressEvent;
   notice: NoticeEvent;
+  spectrum: SpectrumFrame;
 }
 
 /** Two verbs: call and listen. Both shells and the in-process service offer exactly this. */

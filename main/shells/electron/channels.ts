@@ -6,4 +6,4 @@ export const CALL_CHANNEL = 'nullbench:call';
 /** One channel per event: EVENT_CHANNEL_PREFIX + event name. */
 export const EVENT_CHANNEL_PREFIX = 'nullbench:event:';
 /** The events a page may listen to (app/api EVENTS; a test holds the two lists equal). */
-export const BRIDGE_EVENTS = ['reading', 'status', 'progress', 'notice'] as const;
+export const BRIDGE_EVENTS = ['reading', 'status', 'progress', 'notice', 'spectrum'] as const;

@@ -1,0 +1,368 @@
+// Runs in Node. The live spectrum: an SDR sample stream around the open session's carrier, averaged,
+// measured (carrier, tones, products, floor) and thinned to a trace a few times a second, here on the main
+// side so the page needs neither WebAssembly nor a looser content policy. `iqsim` starts our own SDR sample
+// server fed by the simulated bench's transmitter, so the trimmers turned in the app move its carrier.
+import { analysePath, rxToDut, validatePath } from '../../app/path';
+import { BenchError, check } from '../../app/errors';
+import type { ParsedArgs, Reading, Session } from '../../app/api';
+import type { SpectrumCallResults, SpectrumComponent, SpectrumFrame } from '../../app/api/spectrumcalls';
+import {
+  defaultFftSize,
+  measureSpectrum,
+  SpectrumAverager,
+  traceSpectrum,
+  Window,
+  type ComponentRole,
+} from '../../app/spectrum';
+import {
+  dbfsToDbm,
+  injectionDbfsCalibration,
+  profileDbfsCalibration,
+  type DbfsCalibration,
+} from '../../app/spectrum/dbfs';
+import type { LiveBench } from './live';
+import { IqTcpClient } from '../sources/iq/iqtcp';
+import { IqSimServer } from '../sim/iqserver';
+import { SimTransmitter } from '../sim/transmitter';
+import { SIM_SDR_DBM_AT_FULL_SCALE, transmitterIqGenerator } from '../sim/txiq';
+import { SimSource } from '../sources/sim';
+import type { Store } from '../store/store';
+
+const ROLE_OF: Record<ComponentRole, SpectrumComponent['role']> = {
+  carrier: 'carrier',
+  upper: 'upper',
+  lower: 'lower',
+  imd3Upper: 'imd3u',
+  imd3Lower: 'imd3l',
+  imd5Upper: 'imd5u',
+  imd5Lower: 'imd5l',
+};
+
+/** Points in the trace sent to the page: plenty for a chart a few hundred pixels wide. */
+const TRACE_POINTS = 480;
+/** The trace spans the carrier +/- this many tone spacings (IMD5 sits at 5). */
+const SPAN_TONES = 6.5;
+/** Share of 8-bit samples at 0 or 255 above which the SDR counts as overdriven (common practice: any clipping). */
+const CLIP_SHARE = 1e-4;
+
+export interface SpectrumDeskDeps {
+  store: Store;
+  live: () => LiveBench | null;
+  emit: (frame: SpectrumFrame) => void;
+  /** An error that stopped the stream. */
+  failed: (e: BenchError) => void;
+}
+
+/** Parses `iqsim` or `iq:HOST:PORT`. */
+export function parseIqSpec(spec: string): { sim: true } | { sim: false; host: string; port: number } {
+  if (spec === 'iqsim') return { sim: true };
+  const m = /^iq:([A-Za-z0-9.-]+|\[[0-9a-fA-F:]+\]):(\d{1,5})$/.exec(spec);
+  if (!m) throw new BenchError('EINVAL', `"${spec}" is neither "iqsim" nor "iq:HOST:PORT"`, 'source');
+  const port = Number(m[2]);
+  check(port > 0 && port < 65536, 'source', `port must be 1..65535, got ${port}`);
+  return { sim: false, host: m[1].replace(/^\[|\]$/g, ''), port };
+}
+
+export class SpectrumDesk {
+  private client: IqTcpClient | null = null;
+  private server: IqSimServer | null = null;
+  private running: Promise<void> | null = null;
+  private stopping = false;
+  private source: string | null = null;
+  private latest: SpectrumFrame | null = null;
+  /** dBm at 0 dBFS per receiver (source spec), as set by the user or the sim's own figure. */
+  private readonly calibrations = new Map<string, DbfsCalibration>();
+
+  constructor(private readonly deps: SpectrumDeskDeps) {}
+
+  handlers() {
+    return {
+      spectrumStart: (a: ParsedArgs<'spectrumStart'>) => this.start(a),
+      spectrumStop: () => this.stop(),
+      spectrumCalibrate: (a: ParsedArgs<'spectrumCalibrate'>) => this.calibrate(a),
+      spectrumKeep: (a: ParsedArgs<'spectrumKeep'>) => this.keep(a.note),
+    };
+  }
+
+  state(): SpectrumCallResults['spectrumStart'] {
+    return {
+      running: this.running !== null,
+      source: this.source,
+      calibration: this.source ? (this.calibrations.get(this.source) ?? null) : null,
+    };
+  }
+
+  /** The latest frame (tests and keep). */
+  get frame(): SpectrumFrame | null {
+    return this.latest;
+  }
+
+  private requireSession(): { live: LiveBench; session: Session } {
+    const live = this.deps.live();
+    if (!live)
+      throw new BenchError(
+        'ECONFLICT',
+        'no session is open: open a session before starting the spectrum',
+        'session',
+      );
+    return { live, session: live.session };
+  }
+
+  async start(a: ParsedArgs<'spectrumStart'>): Promise<SpectrumCallResults['spectrumStart']> {
+    const { session } = this.requireSession();
+    const spec = parseIqSpec(a.source);
+    await this.stop();
+    const fs = a.sampleRate;
+    // The carrier a tenth of the span above the centre: clear of the SDR's DC offset and its 1/f noise.
+    const offsetHz = Math.round(fs / 10);
+    const centerHz = session.carrierHz - offsetHz;
+    const tone = session.toneHz;
+    check(
+      (SPAN_TONES + 1) * tone + offsetHz < fs / 2,
+      'sampleRate',
+      `${fs} samples/s cannot show the carrier +/- ${SPAN_TONES} tones of ${tone} Hz: raise the sample rate`,
+    );
+    const n = a.fftSize ?? defaultFftSize(fs, tone, 'flat-top', Infinity);
+    const window = Window.byName('flat-top', n);
+    let host = '127.0.0.1';
+    let port: number;
+    if (spec.sim) {
+      const standalone = new SimTransmitter({
+        carrierHz: session.carrierHz,
+        toneHz: tone,
+        pepDbm: session.txPepDbm,
+      });
+      const simOf = () => {
+        const src = this.deps.live()?.source;
+        return src instanceof SimSource ? src.bench : null;
+      };
+      const server = await IqSimServer.start({
+        sampleRate: fs,
+        centerHz,
+        generator: transmitterIqGenerator({
+          // The open session's simulated bench when it is one (its trimmers), else a board of our own.
+          transmitter: () => simOf()?.tx ?? standalone,
+          pathLossDb: () => simOf()?.pathLossDb ?? analysePath(validatePath(session.path)).lossDb,
+          dbmAtFullScale: SIM_SDR_DBM_AT_FULL_SCALE,
+        }),
+      });
+      this.server = server;
+      port = server.port;
+      if (!this.calibrations.has(a.source))
+        this.calibrations.set(a.source, profileDbfsCalibration(SIM_SDR_DBM_AT_FULL_SCALE, 0.5));
+    } else {
+      host = spec.host;
+      port = spec.port;
+    }
+    const client = new IqTcpClient({ host, port });
+    try {
+      await client.connect();
+      await client.setSampleRate(fs);
+      await client.setFrequency(centerHz);
+    } catch (e) {
+      await client.close().catch(() => undefined);
+      await this.server?.close();
+      this.server = null;
+      throw e;
+    }
+    const avg = await SpectrumAverager.create(window);
+    this.client = client;
+    this.source = a.source;
+    this.stopping = false;
+    this.latest = null;
+    const ctx = { session, fs, centerHz, offsetHz, n, averages: a.averages, avg, client, source: a.source };
+    this.running = this.loop(ctx).finally(() => avg.dispose());
+    return this.state();
+  }
+
+  private async loop(c: {
+    session: Session;
+    fs: number;
+    centerHz: number;
+    offsetHz: number;
+    n: number;
+    averages: number;
+    avg: SpectrumAverager;
+    client: IqTcpClient;
+    source: string;
+  }): Promise<void> {
+    const { n, fs, client, avg, session } = c;
+    const tone = session.toneHz;
+    try {
+      // Samples already in flight belong to the old tuning.
+      await client.discard(n);
+      while (!this.stopping) {
+        // Behind by more than one update: drop whole frames so the picture stays live.
+        const frameBytes = 2 * n;
+        const behind = Math.floor(client.pendingBytes / frameBytes) - c.averages;
+        if (behind > 0) await client.discard(behind * n);
+        avg.reset();
+        let clipped = 0;
+        for (let k = 0; k < c.averages; k++) {
+          const b = await client.readBlock(n);
+          for (let i = 0; i < b.length; i++) if (b[i] === 0 || b[i] === 255) clipped++;
+          avg.pushU8(b, 0, client.zero);
+        }
+        if (this.stopping) break;
+        const spectrum = avg.spectrum();
+        const m = measureSpectrum(spectrum, { sampleRate: fs, carrierHz: c.offsetHz, toneHz: tone });
+        const trace = traceSpectrum(
+          spectrum,
+          fs,
+          c.offsetHz - SPAN_TONES * tone,
+          c.offsetHz + SPAN_TONES * tone,
+          TRACE_POINTS,
+        );
+        const cal = this.calibrations.get(c.source) ?? null;
+        const path = validatePath(session.path);
+        const components: SpectrumComponent[] = Object.values(m.components).map((x) => {
+          let dbmDut: number | null = null;
+          if (cal && x.dbfs !== null) dbmDut = rxToDut(dbfsToDbm(x.dbfs, 0, cal).dbm, 0, path).dbm;
+          return {
+            role: ROLE_OF[x.role],
+            offsetHz: x.offsetHz - m.carrierHz,
+            inBand: x.inBand,
+            dbfs: x.dbfs,
+            dbmDut,
+            floorLimited: x.floorLimited,
+            uDb: x.uDb,
+          };
+        });
+        const frame: SpectrumFrame = {
+          sessionId: session.id,
+          source: c.source,
+          t: Date.now(),
+          centerHz: c.centerHz,
+          carrierHz: c.centerHz + m.carrierHz,
+          toneHz: m.toneHz,
+          sampleRate: fs,
+          fftSize: n,
+          averages: m.averages,
+          binHz: m.binHz,
+          traceHz: Array.from(trace.hz, (h) => Math.round((h - c.offsetHz) * 10) / 10),
+          traceDbfs: Array.from(trace.dbfs, (d) => Math.round(d * 100) / 100),
+          components,
+          noiseFloorDbfs: m.noiseFloorDbfs,
+          suppression: m.suppression,
+          imd3: m.imd3 ? { db: m.imd3.db, floorLimited: m.imd3.floorLimited, uDb: m.imd3.uDb } : null,
+          overload: clipped > CLIP_SHARE * 2 * n * c.averages,
+          calibration: cal,
+        };
+        this.latest = frame;
+        this.deps.emit(frame);
+      }
+    } catch (e) {
+      if (!this.stopping)
+        this.deps.failed(
+          e instanceof BenchError
+            ? e
+            : new BenchError('EIO', e instanceof Error ? e.message : String(e), 'spectrum'),
+        );
+    } finally {
+      this.running = null;
+      if (!this.stopping) await this.release();
+    }
+  }
+
+  private async release(): Promise<void> {
+    const client = this.client;
+    const server = this.server;
+    this.client = null;
+    this.server = null;
+    await client?.close().catch(() => undefined);
+    await server?.close().catch(() => undefined);
+  }
+
+  async stop(): Promise<SpectrumCallResults['spectrumStop']> {
+    this.stopping = true;
+    const running = this.running;
+    // Closing the connection ends a read that waits for samples.
+    await this.release();
+    await running;
+    this.stopping = false;
+    this.latest = null;
+    return this.state();
+  }
+
+  calibrate(a: ParsedArgs<'spectrumCalibrate'>): DbfsCalibration {
+    const source = this.source;
+    if (!source)
+      throw new BenchError(
+        'ECONFLICT',
+        'start the spectrum first: the figure belongs to the SDR it reads',
+        'source',
+      );
+    let cal: DbfsCalibration;
+    if ('injection' in a) {
+      const f = this.latest;
+      const seen = (f?.components ?? []).filter((c) => c.dbfs !== null && !c.floorLimited);
+      if (!f || seen.length === 0)
+        throw new BenchError(
+          'ENAVAIL',
+          'no tone is seen above the noise: check the generator and the pad',
+          'injection',
+        );
+      const strongest = seen.reduce((a, b) => ((b.dbfs as number) > (a.dbfs as number) ? b : a));
+      cal = injectionDbfsCalibration({
+        ...a.injection,
+        readDbfs: strongest.dbfs as number,
+        readUDb: strongest.uDb ?? 0,
+      });
+    } else {
+      cal = profileDbfsCalibration(a.dbmAtFullScale, a.uDb);
+    }
+    this.calibrations.set(source, cal);
+    return cal;
+  }
+
+  /** Keeps the latest measurement: one reading per component in band, in one transaction. */
+  keep(note: string): Reading[] {
+    const { live, session } = this.requireSession();
+    const f = this.latest;
+    if (!f || !this.source)
+      throw new BenchError(
+        'ENAVAIL',
+        'no spectrum measured yet: start the spectrum and wait for a trace',
+        'spectrum',
+      );
+    if (f.sessionId !== session.id)
+      throw new BenchError('ECONFLICT', 'the spectrum belongs to another session: restart it', 'spectrum');
+    const cal = f.calibration;
+    if (!cal)
+      throw new BenchError(
+        'EINVAL',
+        `no dBm at 0 dBFS is set for ${this.source}: set it from the receiver's profile or a reference injection`,
+        'calibration',
+      );
+    const path = validatePath(session.path);
+    const supp = f.suppression
+      ? `suppression ${f.suppression.floorLimited ? '>= ' : ''}${f.suppression.db.toFixed(1)} dB`
+      : 'no tones seen';
+    const text = `spectrum (${supp})${note ? `: ${note}` : ''}`;
+    const list = f.components
+      .filter((c) => c.inBand && c.dbfs !== null)
+      .map((c) => {
+        const rx = dbfsToDbm(c.dbfs as number, c.uDb ?? 0, cal);
+        const dut = rxToDut(rx.dbm, rx.uDb, path);
+        return {
+          sessionId: session.id,
+          t: f.t,
+          freqHz: f.carrierHz + c.offsetHz,
+          role: c.role,
+          raw: c.dbfs as number,
+          dbmRx: rx.dbm,
+          dbmDut: dut.dbm,
+          uDb: dut.uDb,
+          settled: true,
+          kept: true,
+          floorLimited: c.floorLimited,
+          overload: f.overload,
+          trims: { ...live.trims },
+          calibration: cal,
+          path,
+          note: text,
+        };
+      });
+    return this.deps.store.addReadings(list);
+  }
+}

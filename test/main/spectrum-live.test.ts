@@ -1,0 +1,85 @@
+import { describe, it } from 'node:test';
+import assert from 'node:assert/strict';
+import type { SpectrumFrame } from '../../app/api';
+import type { LiveBench } from '../../main/bench/live';
+import { SimSource } from '../../main/sources/sim';
+import { serviceWithSession } from '../helpers/session';
+
+/** The next `skip + 1`th spectrum frame: frames averaged partly before a change are skipped. */
+function nextFrame(
+  listen: (cb: (f: SpectrumFrame) => void) => () => void,
+  skip: number,
+): Promise<SpectrumFrame> {
+  return new Promise((resolve) => {
+    let seen = 0;
+    const off = listen((f) => {
+      if (seen++ < skip) return;
+      off();
+      resolve(f);
+    });
+  });
+}
+
+describe('Service spectrumStart/spectrumKeep (iqsim)', () => {
+  it("measures the simulated transmitter's carrier suppression within 0.5 dB as its trimmers move", async () => {
+    const ctx = await serviceWithSession({ fast: false });
+    const { service } = ctx;
+    try {
+      await service.invoke('openSession', { sessionId: ctx.session.id });
+      const live = (service as unknown as { live: LiveBench }).live;
+      assert.ok(live.source instanceof SimSource);
+      const tx = live.source.bench.tx;
+      const state = await service.invoke('spectrumStart', { source: 'iqsim' });
+      assert.equal(state.running, true);
+      const listen = (cb: (f: SpectrumFrame) => void) => service.listen('spectrum', cb);
+      const bal = tx.trueBalance();
+      for (const wantDb of [30, 45]) {
+        // Off the balance point along A only: residual carrier amplitude gainA * dA relative to a sideband.
+        const dA = Math.sqrt(10 ** (-wantDb / 10)) / tx.cfg.gainA;
+        await service.invoke('setTrims', { trims: { A: bal.A + dA, B: bal.B } });
+        const f = await nextFrame(listen, 2);
+        // The sim's own figure: DSB, both sidebands equal, so suppression = sideband / carrier power.
+        const expected = -10 * Math.log10(tx.carrierRatio());
+        assert.ok(f.suppression, 'both tones seen');
+        assert.equal(f.suppression.floorLimited, false);
+        assert.ok(
+          Math.abs(f.suppression.db - expected) <= 0.5,
+          `measured ${f.suppression.db.toFixed(2)} dB, sim set ${expected.toFixed(2)} dB`,
+        );
+        assert.ok(f.traceHz.length <= 480 && f.traceHz.length === f.traceDbfs.length);
+      }
+
+      const kept = await service.invoke('spectrumKeep', { note: 'after A' });
+      const roles = kept.map((r) => r.role).sort();
+      assert.deepEqual(roles, ['carrier', 'imd3l', 'imd3u', 'imd5l', 'imd5u', 'lower', 'upper']);
+      assert.ok(kept.every((r) => r.kept && r.sessionId === ctx.session.id));
+      const upper = kept.find((r) => r.role === 'upper')!;
+      // Through the SDR's full-scale figure and the declared 50 dB path back to the transmitter: one
+      // sideband of a 30 dBm PEP DSB signal is PEP - 6.02 dB (two equal tones, REFERENCES.md).
+      assert.ok(Math.abs(upper.dbmDut - tx.sidebandDbm()) < 0.5, `upper ${upper.dbmDut} dBm`);
+      assert.ok(Math.abs(upper.freqHz - (7.1e6 + 1000)) < 20);
+      const stored = await service.invoke('readings', { sessionId: ctx.session.id, keptOnly: true });
+      assert.equal(stored.filter((r) => r.note.startsWith('spectrum')).length, 7);
+      const corr = ctx.store.db
+        .prepare(
+          'SELECT c.calibration_json AS c FROM readings r JOIN corrections c ON c.id = r.correction_id WHERE r.id = ?',
+        )
+        .get(upper.id) as { c: string };
+      assert.equal(JSON.parse(corr.c).kind, 'dbfs-offset');
+    } finally {
+      await ctx.cleanup();
+    }
+  });
+
+  it('refuses to start without a session, to keep before a trace, and a source that is not an SDR stream', async () => {
+    const ctx = await serviceWithSession({ fast: false });
+    try {
+      await assert.rejects(ctx.service.invoke('spectrumStart', {}), /no session is open/);
+      await ctx.service.invoke('openSession', { sessionId: ctx.session.id });
+      await assert.rejects(ctx.service.invoke('spectrumKeep', {}), /no spectrum measured yet/);
+      await assert.rejects(ctx.service.invoke('spectrumStart', { source: 'iq:nowhere' }), /iq:HOST:PORT/);
+    } finally {
+      await ctx.cleanup();
+    }
+  });
+});
