@@ -12,7 +12,7 @@ import type {
   Status,
   TrialSummary,
 } from '../../app/api';
-import { fixed, unitSuffix } from '../../app/nullfit/format';
+import { fixed, signedAmount, unitSuffix } from '../../app/nullfit/format';
 import { ApiError } from '../api';
 import { clear, h } from '../dom';
 import { dbm } from '../format';
@@ -401,7 +401,28 @@ export class GuidePanel {
     (e.set as HTMLButtonElement).disabled = !t || there;
     e.keep.className = due === 3 ? 'primary' : '';
     this.card.dataset.due = String(due);
+    if (t) e.turn.textContent = this.turnText(t);
     if (t?.stop) this.stopText(there);
+  }
+
+  /** How far to turn each trimmer from where it stands now (kept current as the trimmers move). */
+  private turnText(t: TrialSummary): string {
+    const held = Object.keys(t.held).map(
+      (k) => `${this.label(k).label} held at ${t.held[k]}${unitSuffix(this.label(k).unit)}`,
+    );
+    const now = this.status?.trims;
+    let turn = t.turnText;
+    if (now && t.keys.every((k) => typeof now[k] === 'number')) {
+      const moves = t.keys.map((k) => ({ k, d: t.next[k] - now[k], step: t.resolution[k] }));
+      const go = moves.filter((m) => Math.abs(m.d) >= m.step / 2);
+      const stay = moves.filter((m) => Math.abs(m.d) < m.step / 2).map((m) => m.k);
+      turn =
+        go.length === 0
+          ? `leave ${stay.join(' and ')} where ${stay.length > 1 ? 'they are' : 'it is'}`
+          : `turn ${go.map((m) => `${m.k} ${signedAmount(m.d, m.step, this.label(m.k).unit)}`).join(', ')}` +
+            (stay.length ? `; leave ${stay.join(' and ')}` : '');
+    }
+    return [turn, ...held].filter(Boolean).join(' · ');
   }
 
   /** The stop banner: leave the trimmers where they are, or set them to the fitted null first. */
@@ -446,16 +467,10 @@ export class GuidePanel {
         h('b', {}, `${fixed(t.next[k], t.resolution[k])}${unitSuffix(unit)}`),
       );
     });
-    const held = Object.keys(t.held).map(
-      (k) => `${this.label(k).label} held at ${t.held[k]}${unitSuffix(this.label(k).unit)}`,
-    );
     clear(e.next);
     e.next.append(...lines);
     e.next.dataset.text = t.setText;
     e.next.dataset.next = JSON.stringify(t.next);
-    e.turn.textContent = t.turnText
-      ? `${t.turnText}${held.length ? ` · ${held.join(', ')}` : ''}`
-      : held.join(', ');
     e.predict.textContent =
       t.predictedDbm === null
         ? 'Predicted level: none yet: the fit needs a few readings across the travel first.'
