@@ -29,7 +29,7 @@ describe('web mode, demo history', () => {
   it('loads the demo history and lists its sessions', async () => {
     await page.goto(served.url);
     await page.click('#load-demo');
-    await page.locator('#sessions-dialog tr[data-session]').first().waitFor({ timeout: 60000 });
+    await page.locator('#sessions-dialog tr[data-session]').first().waitFor({ timeout: 180000 });
     assert.equal(await page.locator('#sessions-dialog tr[data-session]').count(), 6);
     assert.match(await page.locator('#sessions-dialog').innerText(), /HD40-0201/);
     await page.screenshot({ path: shot('e2e-10-demo-sessions') });
