@@ -16,6 +16,7 @@ import { clear, h } from '../dom';
 import { dbm, mhz, signed, sUnits } from '../format';
 import { PlanPanel } from './plan';
 import { GuidePanel } from './guide';
+import { SpectrumPanel } from './spectrum';
 
 const ROLES: PointRole[] = ['carrier', 'upper', 'lower', 'imd3u', 'imd3l', 'reference', 'floor'];
 
@@ -355,6 +356,7 @@ export class BenchView {
           this.guide.mapElement(),
           keptCard,
           this.plan.element(s),
+          this.spectrumPanel(s.id),
         ),
         h('div', { class: 'stack' }, this.guide.element(), trimCard, roleCard, sweepCard, setup),
       ),
@@ -425,6 +427,13 @@ export class BenchView {
     // Only while the sweep runs: its last progress event may arrive after the result has said "Done".
     if (this.els.sweepMsg && this.busy)
       this.els.sweepMsg.textContent = `Sweeping: ${done}/${total} (${message})`;
+  }
+
+  /** The live SDR spectrum (its own file: views/spectrum.ts); what it keeps joins the kept list. */
+  private spectrumPanel(sessionId: string): HTMLElement {
+    const el = new SpectrumPanel(this.api, sessionId, this.notify).element();
+    el.addEventListener('spectrum-kept', () => this.refreshKept());
+    return el;
   }
 
   /** @param refit ask the guide for a new fit (not when the guide itself asks for the redraw) */
