@@ -28,6 +28,7 @@ import { ReceiverDesk } from './receivers';
 import { createSource, findDriver } from './sources';
 import type { LevelSource, SourceEnv } from './sources/types';
 import type { Store } from './store/store';
+import { sessionSeries } from './store/series';
 
 export const VERSION = '0.1.0';
 
@@ -120,6 +121,7 @@ export class Service {
       },
       sweep: (a) => this.sweep(a),
       readings: (a) => this.store.readings(a.sessionId, { keptOnly: a.keptOnly, limit: a.limit }),
+      series: (a) => sessionSeries(this.store, a),
       loadDemo: () => seedDemo(this.store),
       ...this.receivers.handlers(),
       ...this.plans.handlers(),

@@ -12,6 +12,7 @@ import {
   Filler,
   type ChartDataset,
 } from 'chart.js';
+import { decimateForChart } from '../app/decimate';
 
 Chart.register(
   LineController,
@@ -32,9 +33,13 @@ const STRIP_SECONDS = 60;
 export class StripChart {
   readonly chart: Chart<'line', { x: number; y: number }[]>;
   private points: { t: number; y: number }[] = [];
+  /** Index of the oldest point still in the window. */
+  private head = 0;
   private dirty = false;
+  private readonly canvas: HTMLCanvasElement;
 
   constructor(canvas: HTMLCanvasElement) {
+    this.canvas = canvas;
     this.chart = new Chart(canvas, {
       type: 'line',
       data: {
@@ -57,27 +62,40 @@ export class StripChart {
 
   push(t: number, y: number): void {
     this.points.push({ t, y });
+    // Old points leave by moving a start index (shift() would copy the whole window for every reading).
     const cut = t - STRIP_SECONDS * 1000;
-    while (this.points.length && this.points[0].t < cut) this.points.shift();
+    while (this.head < this.points.length && this.points[this.head].t < cut) this.head++;
+    if (this.head > 4096 && this.head > this.points.length / 2) {
+      this.points = this.points.slice(this.head);
+      this.head = 0;
+    }
     this.dirty = true;
   }
 
   reset(): void {
     this.points = [];
+    this.head = 0;
     this.dirty = true;
   }
 
   private flush(): void {
     if (!this.dirty) return;
     this.dirty = false;
-    const last = this.points.length ? this.points[this.points.length - 1].t : 0;
-    this.chart.data.datasets[0].data = this.points.map((p) => ({ x: (p.t - last) / 1000, y: p.y }));
+    const shown = this.points.slice(this.head);
+    const last = shown.length ? shown[shown.length - 1].t : 0;
+    // A fast source puts more readings in the window than the chart has pixels: draw each pixel column's
+    // lowest and highest reading (a dip of one reading stays visible; an average would hide the null).
+    const columns = Math.max(100, this.canvas.clientWidth || 600);
+    this.chart.data.datasets[0].data = decimateForChart(shown, columns).map((p) => ({
+      x: (p.t - last) / 1000,
+      y: p.y,
+    }));
     // At least 10 dB of scale, so a steady level does not fill the panel with quantisation steps.
-    const ys = this.points.map((p) => p.y).filter(Number.isFinite);
+    const ys = shown.map((p) => p.y).filter(Number.isFinite);
     const y = this.chart.options.scales?.y;
     if (y && ys.length) {
-      const lo = Math.min(...ys);
-      const hi = Math.max(...ys);
+      const lo = ys.reduce((a, b) => Math.min(a, b));
+      const hi = ys.reduce((a, b) => Math.max(a, b));
       const pad = Math.max(0, 10 - (hi - lo)) / 2;
       y.min = Math.floor(lo - pad - 1);
       y.max = Math.ceil(hi + pad + 1);

@@ -53,6 +53,13 @@ export const CALLS = {
     keptOnly: z.boolean().default(false),
     limit: z.number().int().min(1).max(1e6).default(5000),
   }),
+  /** A session's levels decimated for a chart: min and max per time bucket, so no null is averaged away. */
+  series: SessionRef.extend({
+    fromT: z.number().finite().optional(),
+    toT: z.number().finite().optional(),
+    buckets: z.number().int().min(1).max(5000).default(1000),
+    role: PointRoleSchema.optional(),
+  }),
   ...RECEIVER_CALLS,
   ...NULL_CALLS,
   ...SPECTRUM_CALLS,

@@ -5,6 +5,7 @@ import type { RecordCallResults } from './records';
 import type { ReceiverCallResults } from './rxcalls';
 import type { NullCallResults } from './nullcalls';
 import type { SpectrumCallResults, SpectrumFrame } from './spectrumcalls';
+import type { Series } from '../decimate';
 import type {
   Design,
   LiveReading,
@@ -38,6 +39,7 @@ export interface CallResults
   keep: Reading;
   sweep: SweepResult;
   readings: Reading[];
+  series: Series;
   loadDemo: { designId: string; units: number; sessions: number; keptReadings: number };
 }
 
