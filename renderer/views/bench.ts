@@ -432,7 +432,10 @@ export class BenchView {
   /** The live SDR spectrum (its own file: views/spectrum.ts); what it keeps joins the kept list. */
   private spectrumPanel(sessionId: string): HTMLElement {
     const el = new SpectrumPanel(this.api, sessionId, this.notify).element();
-    el.addEventListener('spectrum-kept', () => this.refreshKept());
+    el.addEventListener('spectrum-kept', (e) => {
+      this.kept.push(...(e as CustomEvent<Reading[]>).detail);
+      this.refreshKept();
+    });
     return el;
   }
 

@@ -233,7 +233,7 @@ export class SpectrumPanel {
         'info',
         `kept ${kept.length} readings${c ? `: carrier ${c.floorLimited ? '≤ ' : ''}${dbm(c.dbmDut)} dBm at the transmitter` : ''}`,
       );
-      this.root.dispatchEvent(new CustomEvent('spectrum-kept', { bubbles: true }));
+      this.root.dispatchEvent(new CustomEvent('spectrum-kept', { bubbles: true, detail: kept }));
     } catch (e) {
       this.notify('error', (e as Error).message);
     } finally {

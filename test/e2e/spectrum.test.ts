@@ -65,6 +65,15 @@ describe('live spectrum, end to end', () => {
     assert.ok(lit > 2000, `only ${lit} pixels drawn`);
     await page.locator('#spectrum-card').screenshot({ path: shot('e2e-spectrum-01-live') });
 
+    // Turning a trimmer moves the simulated transmitter's carrier in the stream: less suppression.
+    const before = Number(supp.replace(/^≥ /, '').replace('−', '-').split(' ')[0]);
+    await page.fill('#trim-A', '0.5');
+    await page.press('#trim-A', 'Enter');
+    await page.waitForFunction((b) => {
+      const t = document.querySelector('#spectrum-suppression')?.textContent ?? '';
+      const v = Number(t.replace(/^≥ /, '').replace('−', '-').split(' ')[0]);
+      return Number.isFinite(v) && v < b - 3;
+    }, before);
     await page.click('#spectrum-keep');
     await page.locator('.notice.info').filter({ hasText: 'kept 7 readings' }).waitFor();
     await page.locator('#spectrum-card').screenshot({ path: shot('e2e-spectrum-02-kept') });

@@ -71,6 +71,42 @@ describe('Service spectrumStart/spectrumKeep (iqsim)', () => {
     }
   });
 
+  it('reports a carrier buried in the noise as a bound, and takes the full-scale figure from a reference injection', async () => {
+    // Leakage far below what 8-bit samples resolve: at the balance point the carrier is under the floor.
+    const ctx = await serviceWithSession({ fast: false, source: 'sim:seed=5,leak=-120' });
+    const { service } = ctx;
+    try {
+      await service.invoke('openSession', { sessionId: ctx.session.id });
+      const live = (service as unknown as { live: LiveBench }).live;
+      assert.ok(live.source instanceof SimSource);
+      const tx = live.source.bench.tx;
+      await service.invoke('spectrumStart', { source: 'iqsim' });
+      const bal = tx.trueBalance();
+      await service.invoke('setTrims', { trims: { A: bal.A, B: bal.B } });
+      const f = await nextFrame((cb) => service.listen('spectrum', cb), 2);
+      assert.ok(f.suppression);
+      assert.equal(f.suppression.floorLimited, true);
+      assert.equal(f.suppression.uDb, null);
+      // The bound sits between the tones and the floor: tones at -12 dBFS, floor near -81 dBFS per bin.
+      assert.ok(f.suppression.db > 55 && f.suppression.db < 75, `bound ${f.suppression.db} dB`);
+      const carrier = f.components.find((c) => c.role === 'carrier')!;
+      assert.equal(carrier.floorLimited, true);
+
+      // The upper tone stands in for a generator: 24 dBm - 50 dB of path = -26 dBm at the SDR input. Read
+      // as the strongest component, it must give back the sim SDR's own figure, -14 dBm at 0 dBFS.
+      const cal = await service.invoke('spectrumCalibrate', {
+        injection: { generatorDbm: tx.sidebandDbm(), padDb: 50 },
+      });
+      assert.equal(cal.from, 'injection');
+      assert.ok(Math.abs(cal.dbmAtFullScale - -14) < 0.3, `${cal.dbmAtFullScale} dBm at 0 dBFS`);
+      const kept = await service.invoke('spectrumKeep', { note: '' });
+      const c = kept.find((r) => r.role === 'carrier')!;
+      assert.equal(c.floorLimited, true);
+    } finally {
+      await ctx.cleanup();
+    }
+  });
+
   it('refuses to start without a session, to keep before a trace, and a source that is not an SDR stream', async () => {
     const ctx = await serviceWithSession({ fast: false });
     try {
