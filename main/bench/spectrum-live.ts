@@ -141,7 +141,13 @@ export class SpectrumDesk {
         centerHz,
         generator: transmitterIqGenerator({
           // The open session's simulated bench when it is one (its trimmers), else a board of our own.
-          transmitter: () => simOf()?.tx ?? standalone,
+          transmitter: () => {
+            const tx = simOf()?.tx;
+            if (tx) return tx;
+            // A session on real hardware: our own board, its trimmers where the user says they stand.
+            standalone.setTrims(this.deps.live()?.trims ?? {});
+            return standalone;
+          },
           pathLossDb: () => simOf()?.pathLossDb ?? analysePath(validatePath(session.path)).lossDb,
           dbmAtFullScale: SIM_SDR_DBM_AT_FULL_SCALE,
         }),
