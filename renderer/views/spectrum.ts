@@ -48,6 +48,7 @@ export class SpectrumPanel {
   private pending = false;
   private running = false;
   private off: (() => void) | null = null;
+  private offNotice: (() => void) | null = null;
 
   constructor(
     private readonly api: ServiceClient,
@@ -149,11 +150,21 @@ export class SpectrumPanel {
   }
 
   private listen(): void {
+    // The stream stopped on the main side (server gone, link broken): the notice says why; show it stopped.
+    this.offNotice ??= this.api.listen('notice', (n) => {
+      if (!this.root.isConnected || !n.message.startsWith('spectrum:')) return;
+      this.running = false;
+      this.startBtn.textContent = 'Start';
+      this.keepBtn.disabled = true;
+      this.info.textContent = `Stopped: ${n.message.slice('spectrum:'.length).trim()}`;
+    });
     this.off ??= this.api.listen('spectrum', (f) => {
       // The bench view redraws on a new session: a panel no longer shown stops listening.
       if (!this.root.isConnected) {
         this.off?.();
         this.off = null;
+        this.offNotice?.();
+        this.offNotice = null;
         return;
       }
       if (f.sessionId !== this.sessionId) return;

@@ -3,6 +3,8 @@ import assert from 'node:assert/strict';
 import type { SpectrumFrame } from '../../app/api';
 import type { LiveBench } from '../../main/bench/live';
 import { SimSource } from '../../main/sources/sim';
+import { IqSimServer } from '../../main/sim/iqserver';
+import { dsbGenerator } from '../../main/sim/dsbsignal';
 import { serviceWithSession } from '../helpers/session';
 
 /** The next `skip + 1`th spectrum frame: frames averaged partly before a change are skipped. */
@@ -104,6 +106,47 @@ describe('Service spectrumStart/spectrumKeep (iqsim)', () => {
       assert.equal(c.floorLimited, true);
     } finally {
       await ctx.cleanup();
+    }
+  });
+
+  it('reads an SDR sample server by iq:HOST:PORT, and says so when the server goes away', async () => {
+    const server = await IqSimServer.start({
+      sampleRate: 256_000,
+      generator: dsbGenerator({ carrierHz: 7.1e6, toneHz: 1000, suppressionDb: 40, toneDbfs: -12 }),
+    });
+    const ctx = await serviceWithSession({ fast: false });
+    const { service } = ctx;
+    try {
+      await service.invoke('openSession', { sessionId: ctx.session.id });
+      const state = await service.invoke('spectrumStart', { source: `iq:127.0.0.1:${server.port}` });
+      // No figure is known for a receiver of the user's own: levels stay in dBFS until one is set.
+      assert.equal(state.calibration, null);
+      const f = await nextFrame((cb) => service.listen('spectrum', cb), 1);
+      // The generator's own setting (dsbGenerator: carrier below the mean of the two tones).
+      assert.ok(f.suppression && Math.abs(f.suppression.db - 40) <= 0.5, `${f.suppression?.db} dB`);
+      assert.equal(f.components.find((c) => c.role === 'upper')!.dbmDut, null);
+      assert.equal(server.state.sampleRate, 256_000);
+      assert.equal(server.state.centerHz, 7.1e6 - 25_600);
+      await assert.rejects(service.invoke('spectrumKeep', {}), /no dBm at 0 dBFS/);
+      await service.invoke('spectrumCalibrate', { dbmAtFullScale: -20, uDb: 1 });
+      const f2 = await nextFrame((cb) => service.listen('spectrum', cb), 0);
+      const up = f2.components.find((c) => c.role === 'upper')!;
+      // dBFS + full-scale figure + the declared 50 dB path (30 dB coupler + 20 dB pad).
+      assert.ok(Math.abs((up.dbmDut as number) - ((up.dbfs as number) - 20 + 50)) < 1e-9);
+
+      const notice = new Promise<string>((resolve) => {
+        const off = service.listen('notice', (n) => {
+          if (!n.message.startsWith('spectrum:')) return;
+          off();
+          resolve(n.message);
+        });
+      });
+      await server.close();
+      assert.match(await notice, /closed the connection|failed/);
+      assert.equal(service.spectrum.state().running, false);
+    } finally {
+      await ctx.cleanup();
+      await server.close().catch(() => undefined);
     }
   });
 
