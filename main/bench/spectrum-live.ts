@@ -8,6 +8,7 @@ import type { ParsedArgs, Reading, Session } from '../../app/api';
 import type { SpectrumCallResults, SpectrumComponent, SpectrumFrame } from '../../app/api/spectrumcalls';
 import {
   defaultFftSize,
+  isFftSize,
   measureSpectrum,
   SpectrumAverager,
   traceSpectrum,
@@ -20,6 +21,7 @@ import {
   profileDbfsCalibration,
   type DbfsCalibration,
 } from '../../app/spectrum/dbfs';
+import { checkTwoToneParams } from '../../app/spectrum/measure';
 import type { LiveBench } from './live';
 import { IqTcpClient } from '../sources/iq/iqtcp';
 import { IqSimServer } from '../sim/iqserver';
@@ -123,7 +125,10 @@ export class SpectrumDesk {
       `${fs} samples/s cannot show the carrier +/- ${SPAN_TONES} tones of ${tone} Hz: raise the sample rate`,
     );
     const n = a.fftSize ?? defaultFftSize(fs, tone, 'flat-top', Infinity);
+    check(isFftSize(n), 'fftSize', `must be a multiple of 16 with no prime factors but 2, 3 and 5, got ${n}`);
     const window = Window.byName('flat-top', n);
+    // Refused here, before any connection, rather than by the first measurement in the loop.
+    checkTwoToneParams({ sampleRate: fs, carrierHz: offsetHz, toneHz: tone }, n, window);
     let host = '127.0.0.1';
     let port: number;
     if (spec.sim) {

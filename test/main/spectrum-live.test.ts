@@ -157,6 +157,10 @@ describe('Service spectrumStart/spectrumKeep (iqsim)', () => {
       await ctx.service.invoke('openSession', { sessionId: ctx.session.id });
       await assert.rejects(ctx.service.invoke('spectrumKeep', {}), /no spectrum measured yet/);
       await assert.rejects(ctx.service.invoke('spectrumStart', { source: 'iq:nowhere' }), /iq:HOST:PORT/);
+      // 1000 Hz tones are 4 bins of 250 Hz at FFT 1024: too close for the flat-top's main lobe.
+      await assert.rejects(ctx.service.invoke('spectrumStart', { fftSize: 1024 }), /use a larger FFT/);
+      await assert.rejects(ctx.service.invoke('spectrumStart', { fftSize: 1040 }), /multiple of 16/);
+      assert.equal(ctx.service.spectrum.state().running, false);
     } finally {
       await ctx.cleanup();
     }
