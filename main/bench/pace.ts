@@ -22,6 +22,9 @@ export function pacedSource(inner: LevelSource, rateHz: number): LevelSource {
     get noiseFloorDbm() {
       return inner.noiseFloorDbm;
     },
+    get quantity() {
+      return inner.quantity;
+    },
     open: () => inner.open(),
     close: () => inner.close(),
     setFrequency: (hz) => inner.setFrequency(hz),

@@ -179,6 +179,18 @@ describe('pacedSource()', () => {
     assert.ok(ms >= 195 && ms < 1000, `11 readings at 50/s took ${ms} ms`);
   });
 
+  it('passes everything else straight through: kind, spec, caps, quantity, floor, clock, trims', async () => {
+    const inner = createSource('sim:seed=3,fast');
+    const s = pacedSource(inner, 100);
+    assert.deepEqual(
+      [s.kind, s.spec, s.caps, s.quantity, s.noiseFloorDbm],
+      [inner.kind, inner.spec, inner.caps, inner.quantity, inner.noiseFloorDbm],
+    );
+    assert.equal(typeof s.setTrims, 'function');
+    await s.setTrims!({ A: 1 });
+    assert.equal(s.now(), inner.now());
+  });
+
   it('refuses a rate that is not positive and finite', () => {
     assert.throws(() => pacedSource(createSource('sim:fast'), 0), /rateHz: must be between/);
     assert.throws(() => pacedSource(createSource('sim:fast'), Number.NaN), /rateHz: must be a finite number/);

@@ -146,7 +146,7 @@ Refused when the receiver input at the declared PEP through the path would excee
       const service = new Service({
         store,
         mode: 'cli',
-        createSource: (spec) => pacedSource(createSource(spec), rateHz),
+        createSource: (spec, env) => pacedSource(createSource(spec, env), rateHz),
       });
       try {
         const session =
