@@ -72,3 +72,30 @@ export function dbfsToDbm(dbfs: number, uReadDb: number, cal: DbfsCalibration): 
   finiteIn(uReadDb, 'uDb', 0, 100, 'dB');
   return { dbm: dbfs + cal.dbmAtFullScale, uDb: Math.sqrt(uReadDb ** 2 + cal.uDb ** 2) };
 }
+
+/** True for a stored calibration of this kind (readings measured by FFT), as opposed to a receiver table. */
+export function isDbfsCalibration(x: unknown): boolean {
+  return typeof x === 'object' && x !== null && (x as { kind?: unknown }).kind === 'dbfs-offset';
+}
+
+/** Checks a stored or imported dBFS calibration; EINVAL naming the field. */
+export function validateDbfsCalibration(x: unknown): DbfsCalibration {
+  check(isDbfsCalibration(x), 'kind', 'must be "dbfs-offset"');
+  const c = x as DbfsCalibration;
+  check(
+    c.from === 'profile' || c.from === 'injection',
+    'from',
+    `must be "profile" or "injection", got ${String(c.from)}`,
+  );
+  if (c.from === 'injection') {
+    check(typeof c.injection === 'object' && c.injection !== null, 'injection', 'is missing');
+    const again = injectionDbfsCalibration(c.injection);
+    check(
+      Math.abs(again.dbmAtFullScale - c.dbmAtFullScale) < 1e-6,
+      'dbmAtFullScale',
+      `does not follow from the injection (${again.dbmAtFullScale} dBm)`,
+    );
+    return { ...again, uDb: finiteIn(c.uDb, 'uDb', 0, 20, 'dB') };
+  }
+  return profileDbfsCalibration(c.dbmAtFullScale, c.uDb);
+}

@@ -14,6 +14,7 @@ import {
   type ImportSummary,
 } from '../../app/bundle';
 import { validateCalibration } from '../../app/calibration';
+import { isDbfsCalibration, validateDbfsCalibration } from '../../app/spectrum/dbfs';
 import { BenchError } from '../../app/errors';
 import { PRESETS, validateLimitSet } from '../../app/limits';
 import { validatePath } from '../../app/path';
@@ -334,7 +335,13 @@ export function validateBundle(input: unknown, store?: Store): Bundle {
         `corrections[${i}].digest`,
       );
     if (c.calibration != null)
-      rethrowAt(() => validateCalibration(c.calibration), `corrections[${i}].calibration`);
+      rethrowAt(
+        () =>
+          isDbfsCalibration(c.calibration)
+            ? validateDbfsCalibration(c.calibration)
+            : validateCalibration(c.calibration),
+        `corrections[${i}].calibration`,
+      );
     rethrowAt(() => validatePath(c.path), `corrections[${i}]`);
   });
   b.readings.forEach((x, i) => {

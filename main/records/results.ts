@@ -10,6 +10,7 @@ import {
 } from '../../app/analysis';
 import type { Design, PointRole, Revision, Session, TrimPositions, Unit } from '../../app/api';
 import { iaruR1Calibration, validateCalibration } from '../../app/calibration';
+import { isDbfsCalibration, validateDbfsCalibration } from '../../app/spectrum/dbfs';
 import { compareRevisions, type RevisionEntry } from '../../app/compare';
 import type { DesignComparison } from '../../app/api/records';
 import { analysePath, validatePath } from '../../app/path';
@@ -54,7 +55,13 @@ interface CorrectionParts {
 /** Calibration and path uncertainty of one stored correction; the IARU R.1 default when none was stored. */
 function partsOf(calibrationJson: string, pathJson: string): CorrectionParts {
   const cal = JSON.parse(calibrationJson) as unknown;
-  const c = cal == null ? iaruR1Calibration() : validateCalibration(cal);
+  // Readings measured by FFT carry the SDR's full-scale figure instead of a receiver table.
+  const c =
+    cal == null
+      ? iaruR1Calibration()
+      : isDbfsCalibration(cal)
+        ? validateDbfsCalibration(cal)
+        : validateCalibration(cal);
   return { uCalDb: c.uDb ?? 0.5, uPathDb: analysePath(validatePath(JSON.parse(pathJson))).uDb };
 }
 

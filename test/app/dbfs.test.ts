@@ -1,6 +1,11 @@
 import { describe, it } from 'node:test';
 import assert from 'node:assert/strict';
-import { dbfsToDbm, injectionDbfsCalibration, profileDbfsCalibration } from '../../app/spectrum/dbfs';
+import {
+  dbfsToDbm,
+  injectionDbfsCalibration,
+  profileDbfsCalibration,
+  validateDbfsCalibration,
+} from '../../app/spectrum/dbfs';
 import { BenchError } from '../../app/errors';
 
 describe('spectrum.dbfsToDbm()', () => {
@@ -58,6 +63,28 @@ describe('spectrum.injectionDbfsCalibration()', () => {
           readUDb: 0,
         }),
       (e: unknown) => e instanceof BenchError && e.field === 'padDb',
+    );
+  });
+});
+
+describe('spectrum.validateDbfsCalibration()', () => {
+  it('accepts what the app stores and refuses a figure that does not follow from its injection', () => {
+    const cal = injectionDbfsCalibration({
+      generatorDbm: -30,
+      generatorUDb: 0.4,
+      padDb: 20,
+      padUDb: 0.3,
+      readDbfs: -36,
+      readUDb: 0,
+    });
+    assert.deepEqual(validateDbfsCalibration(JSON.parse(JSON.stringify(cal))), cal);
+    assert.throws(
+      () => validateDbfsCalibration({ ...cal, dbmAtFullScale: -10 }),
+      (e: unknown) => e instanceof BenchError && e.field === 'dbmAtFullScale',
+    );
+    assert.throws(
+      () => validateDbfsCalibration({ kind: 'dbfs-offset', dbmAtFullScale: -10, uDb: 1, from: 'guess' }),
+      (e: unknown) => e instanceof BenchError && e.field === 'from',
     );
   });
 });

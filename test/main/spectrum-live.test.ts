@@ -68,6 +68,13 @@ describe('Service spectrumStart/spectrumKeep (iqsim)', () => {
         )
         .get(upper.id) as { c: string };
       assert.equal(JSON.parse(corr.c).kind, 'dbfs-offset');
+      // The session's figures and the bundle both take readings corrected by a full-scale figure.
+      await service.invoke('spectrumStop', {});
+      const res = await service.invoke('sessionResults', { sessionId: ctx.session.id });
+      assert.ok(JSON.stringify(res).includes('carrier'));
+      const bundle = await service.invoke('exportBundle', {});
+      assert.match(bundle.json, /dbfs-offset/);
+      await service.invoke('importBundle', { text: bundle.json });
     } finally {
       await ctx.cleanup();
     }
