@@ -35,6 +35,68 @@ function readings(
   });
 }
 
+/** Readings straight into the store at the given times and levels. */
+function store(ctx: Awaited<ReturnType<typeof serviceWithSession>>, rows: [number, number][]): void {
+  ctx.store.addReadings(
+    rows.map(([t, y]) => ({
+      sessionId: ctx.session.id,
+      t,
+      freqHz: 7.1e6,
+      role: 'carrier' as const,
+      raw: y + 23,
+      dbmRx: y - 50,
+      dbmDut: y,
+      uDb: 1,
+      settled: true,
+      kept: false,
+      floorLimited: y < -90,
+      overload: false,
+      trims: { A: 5 },
+      calibration: null,
+      path: [],
+    })),
+  );
+}
+
+describe('series grid', () => {
+  it('stays exact while the session outgrows its cells (they coarsen) and when older readings arrive late', async () => {
+    const ctx = await serviceWithSession();
+    try {
+      const all: [number, number][] = [];
+      const add = (rows: [number, number][]) => {
+        store(ctx, rows);
+        all.push(...rows);
+      };
+      const check = async (buckets: number) => {
+        const s = await ctx.service.invoke('series', { sessionId: ctx.session.id, buckets });
+        const pts = all.map(([t, y]) => ({ t, y, floorLimited: y < -90 }));
+        const want = minMaxBuckets(pts, s.fromT, s.toT, Math.round((s.toT - s.fromT) / s.bucketMs)).map(
+          (b) => [b.n, b.min, b.max, b.floor],
+        );
+        assert.equal(s.total, all.length);
+        assert.deepEqual(
+          s.buckets.map((b) => [b.n, b.min, b.max, b.floor]),
+          want,
+        );
+      };
+      const t0 = 1.8e12;
+      // Levels scattered so each cell's extremes fall anywhere in it (a merge that picks one side shows).
+      add(Array.from({ length: 50 }, (_, i): [number, number] => [t0 + i, -60 + ((i * 37 + 5) % 23) - 11]));
+      await check(10);
+      // Far later: the grid's cells must double many times to reach it.
+      add(Array.from({ length: 400 }, (_, i): [number, number] => [t0 + 5e6 + i * 997, -40 - (i % 60)]));
+      add([[t0 + 3e6, -99]]);
+      await check(100);
+      await check(7);
+      // Older than anything so far (a bundle merged into the session): the grid is rebuilt.
+      add([[t0 - 1e6, -120]]);
+      await check(50);
+    } finally {
+      await ctx.cleanup();
+    }
+  });
+});
+
 describe('long sessions', { timeout: 240_000 }, () => {
   it('keep the heap flat while readings pile up (live bench, store and a web client on the stream)', async (t) => {
     const ctx = await serviceWithSession();
@@ -81,19 +143,24 @@ describe('long sessions', { timeout: 240_000 }, () => {
       await readings(ctx.service, 2000);
       await ctx.service.invoke('closeSession', {});
       const all = ctx.store.readings(ctx.session.id, { limit: 1_000_000 });
+      const points = all.map((r) => ({ t: r.t, y: r.dbmDut, floorLimited: r.floorLimited }));
+      /** The same buckets computed from every reading in memory: counts, minima and maxima must agree exactly. */
+      const expected = (x: { fromT: number; toT: number; bucketMs: number }, from = all) =>
+        minMaxBuckets(
+          from === all ? points : from.map((r) => ({ t: r.t, y: r.dbmDut, floorLimited: r.floorLimited })),
+          x.fromT,
+          x.toT,
+          Math.round((x.toT - x.fromT) / x.bucketMs),
+        ).map((b) => [b.n, b.min, b.max, b.floor]);
       const s = await ctx.service.invoke('series', { sessionId: ctx.session.id, buckets: 300 });
       assert.equal(s.total, all.length);
-      assert.ok(s.buckets.length <= 300);
-      const js = minMaxBuckets(
-        all.map((r) => ({ t: r.t, y: r.dbmDut, floorLimited: r.floorLimited })),
-        s.fromT,
-        s.toT,
-        300,
-      );
+      assert.ok(s.buckets.length <= 300 && s.buckets.length >= 150, `${s.buckets.length} buckets`);
       assert.deepEqual(
         s.buckets.map((b) => [b.n, b.min, b.max, b.floor]),
-        js.map((b) => [b.n, b.min, b.max, b.floor]),
+        expected(s),
       );
+      for (const b of s.buckets)
+        assert.ok(b.tMin >= b.t0 && b.tMin < b.t1 && b.tMax >= b.t0 && b.tMax < b.t1);
       // The deepest reading of the session is in the decimated series, at its own time.
       const deepest = all.reduce((m, r) => (r.dbmDut < m.dbmDut ? r : m));
       const hit = s.buckets.find((b) => b.min === deepest.dbmDut);
@@ -108,7 +175,36 @@ describe('long sessions', { timeout: 240_000 }, () => {
         buckets: 50,
         role: 'carrier',
       });
-      assert.equal(w.total, all.filter((r) => r.t >= mid && r.role === 'carrier').length);
+      const carrier = all.filter((r) => r.role === 'carrier');
+      assert.equal(w.total, carrier.filter((r) => r.t >= w.fromT && r.t < w.toT).length);
+      assert.ok(w.fromT <= mid && w.toT >= s.toT - w.bucketMs, 'the window covers what was asked');
+      assert.deepEqual(
+        w.buckets.map((b) => [b.n, b.min, b.max, b.floor]),
+        expected(w, carrier),
+      );
+      // A window narrower than the session's grid cells is read straight from the table, exact to the reading.
+      const narrow = await ctx.service.invoke('series', {
+        sessionId: ctx.session.id,
+        fromT: all[100].t,
+        toT: all[140].t,
+        buckets: 1000,
+      });
+      assert.equal(narrow.total, 41);
+      assert.deepEqual(
+        narrow.buckets.map((b) => [b.n, b.min, b.max]),
+        minMaxBuckets(points, all[100].t, all[140].t, 1000).map((b) => [b.n, b.min, b.max]),
+      );
+      // More readings later: the grid takes in just the new ones and still agrees exactly.
+      await ctx.service.invoke('openSession', { sessionId: ctx.session.id });
+      await readings(ctx.service, 4000);
+      await ctx.service.invoke('closeSession', {});
+      const more = ctx.store.readings(ctx.session.id, { limit: 1_000_000 });
+      const s2 = await ctx.service.invoke('series', { sessionId: ctx.session.id, buckets: 300 });
+      assert.equal(s2.total, more.length);
+      assert.deepEqual(
+        s2.buckets.map((b) => [b.n, b.min, b.max, b.floor]),
+        expected(s2, more),
+      );
       const bad = await ctx.service.call('series', { sessionId: ctx.session.id, fromT: 10, toT: 5 });
       assert.deepEqual([bad.ok, !bad.ok && bad.field], [false, 'toT']);
     } finally {
