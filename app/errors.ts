@@ -13,15 +13,7 @@
  * ECONFLICT the request conflicts with the current state (e.g. a plan already running)
  */
 export type ErrorCode =
-  | 'EINVAL'
-  | 'ENOTFOUND'
-  | 'ETIMEOUT'
-  | 'EIO'
-  | 'EPROTO'
-  | 'EREJECTED'
-  | 'ENAVAIL'
-  | 'EUNSAFE'
-  | 'ECONFLICT';
+  'EINVAL' | 'ENOTFOUND' | 'ETIMEOUT' | 'EIO' | 'EPROTO' | 'EREJECTED' | 'ENAVAIL' | 'EUNSAFE' | 'ECONFLICT';
 
 export class BenchError extends Error {
   readonly code: ErrorCode;
@@ -34,6 +26,14 @@ export class BenchError extends Error {
     this.code = code;
     this.field = field;
   }
+
+  /** The BenchError a failed call carried across a process boundary. */
+  static fromFailure(f: { code: string; message: string; field?: string }): BenchError {
+    const code = (CODES as readonly string[]).includes(f.code) ? (f.code as ErrorCode) : 'EIO';
+    const prefix = f.field ? `${f.field}: ` : '';
+    const bare = prefix && f.message.startsWith(prefix) ? f.message.slice(prefix.length) : f.message;
+    return new BenchError(code, bare, f.field);
+  }
 }
 
 /** Throw EINVAL naming the field unless `ok`. */
@@ -44,11 +44,66 @@ export function check(ok: boolean, field: string, message: string): asserts ok {
 /** A finite number in [min, max], or EINVAL naming the field. */
 export function finiteIn(value: number, field: string, min: number, max: number, unit = ''): number {
   const u = unit ? ` ${unit}` : '';
-  check(typeof value === 'number' && Number.isFinite(value), field, `must be a finite number, got ${String(value)}`);
+  check(
+    typeof value === 'number' && Number.isFinite(value),
+    field,
+    `must be a finite number, got ${String(value)}`,
+  );
   check(value >= min && value <= max, field, `must be between ${min} and ${max}${u}, got ${value}${u}`);
   return value;
 }
 
 export function isBenchError(e: unknown): e is BenchError {
   return e instanceof BenchError;
+}
+
+/** What a failed call carries across a process boundary: the code, the message and the field, apart. */
+export interface Failure {
+  ok: false;
+  code: string;
+  message: string;
+  field?: string;
+}
+
+const CODES: readonly ErrorCode[] = [
+  'EINVAL',
+  'ENOTFOUND',
+  'ETIMEOUT',
+  'EIO',
+  'EPROTO',
+  'EREJECTED',
+  'ENAVAIL',
+  'EUNSAFE',
+  'ECONFLICT',
+];
+
+/** Any thrown value as a Failure; an error that is not ours is EIO with its message. */
+export function toFailure(e: unknown): Failure {
+  if (e instanceof BenchError)
+    return { ok: false, code: e.code, message: e.message, ...(e.field ? { field: e.field } : {}) };
+  return { ok: false, code: 'EIO', message: e instanceof Error ? e.message : String(e) };
+}
+
+/**
+ * How a loop treats a failure, decided here once for every loop (link front end, live poller, plans, log):
+ * - transient: the peer missed or garbled one exchange (ETIMEOUT, EPROTO); record a gap and go on;
+ * - link-down: the link itself failed (EIO); reconnect with backoff, then go on;
+ * - permanent: retrying cannot help (bad input, refused, unavailable, unsafe, conflict, not found); stop.
+ */
+export type ErrorClass = 'transient' | 'link-down' | 'permanent';
+
+export function errorClass(code: string): ErrorClass {
+  if (code === 'ETIMEOUT' || code === 'EPROTO') return 'transient';
+  if (code === 'EIO') return 'link-down';
+  return 'permanent';
+}
+
+/** An error as one line for a person: "field: message" when it names a field. */
+export function errorText(e: unknown): string {
+  if (e instanceof BenchError || (typeof e === 'object' && e !== null && 'code' in e && 'message' in e)) {
+    const f = e as { message: string; field?: string };
+    const prefix = f.field ? `${f.field}: ` : '';
+    return prefix && !f.message.startsWith(prefix) ? prefix + f.message : f.message;
+  }
+  return e instanceof Error ? e.message : String(e);
 }

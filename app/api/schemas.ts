@@ -116,8 +116,8 @@ export const UnitInputSchema = z.object({
   notes: Text.default(''),
 });
 
-export const SessionInputSchema = z.object({
-  unitId: Id,
+/** What a session is set up with, apart from the unit it measures. */
+export const SessionSetupSchema = z.object({
   receiver: ReceiverProfileSchema,
   /** Signal path DUT -> receiver, elements as app/path validates them. */
   path: z.array(z.unknown()).max(20),
@@ -129,6 +129,7 @@ export const SessionInputSchema = z.object({
   notes: Text.default(''),
   trims: z.array(TrimDefSchema).min(1).max(4),
 });
+export const SessionInputSchema = SessionSetupSchema.extend({ unitId: Id });
 export type SessionInput = z.infer<typeof SessionInputSchema>;
 
 export const DesignSchema = z.object({ id: Id, name: z.string(), notes: z.string(), createdAt: z.string() });

@@ -2,46 +2,21 @@
 // and which payload each event carries. main/service implements it; renderer/api consumes it.
 import type { CallArgs, CallName, NoticeEvent, ProgressEvent } from './contract';
 import type { RecordCallResults } from './records';
-import type { ReceiverCallResults } from './rxcalls';
-import type { NullCallResults } from './nullcalls';
-import type { SpectrumCallResults, SpectrumFrame } from './spectrumcalls';
-import type { Series } from '../decimate';
-import type {
-  Design,
-  LiveReading,
-  Reading,
-  Revision,
-  Session,
-  SessionSummary,
-  Status,
-  Tree,
-  Unit,
-} from './schemas';
-
-export interface SweepResult {
-  readings: Reading[];
-}
+import type { ReceiverCallResults } from './receivers';
+import type { PlanCallResults } from './plans';
+import type { SessionCallResults } from './session';
+import type { NullCallResults } from './nullfit';
+import type { SpectrumCallResults, SpectrumFrame } from './spectrum';
+import type { LiveReading, Status } from './schemas';
 
 export interface CallResults
-  extends ReceiverCallResults, RecordCallResults, NullCallResults, SpectrumCallResults {
-  status: Status;
-  tree: Tree;
-  createDesign: Design;
-  createRevision: Revision;
-  createUnit: Unit;
-  createSession: Session;
-  listSessions: SessionSummary[];
-  getSession: Session;
-  openSession: Session;
-  closeSession: null;
-  tune: Status;
-  setTrims: Status;
-  keep: Reading;
-  sweep: SweepResult;
-  readings: Reading[];
-  series: Series;
-  loadDemo: { designId: string; units: number; sessions: number; keptReadings: number };
-}
+  extends
+    SessionCallResults,
+    ReceiverCallResults,
+    PlanCallResults,
+    RecordCallResults,
+    NullCallResults,
+    SpectrumCallResults {}
 
 export interface EventPayloads {
   reading: LiveReading;

@@ -22,7 +22,7 @@ import {
 import { analysePath, validatePath } from '../../app/path';
 import { Records } from '../records/manage';
 import { loadSessionResult, sessionsWithResults, type SessionResult } from '../records/results';
-import { RF_CAUTION } from '../service';
+import { RF_CAUTION } from '../../app/caution';
 import type { Store } from '../store/store';
 import type { NullSeries, PlanLine, PlanPoint } from './svg';
 

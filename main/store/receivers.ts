@@ -16,7 +16,7 @@ import {
   type SerialTemplate,
 } from '../../app/serialtemplate';
 import { benchErrorFromZod } from '../../app/zodissue';
-import type { TemplateEntry } from '../../app/api/rxcalls';
+import type { TemplateEntry } from '../../app/api/receivers';
 import type { Store } from './store';
 
 interface ReceiverRow {

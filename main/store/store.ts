@@ -273,6 +273,37 @@ export class Store {
     return u ? this.getUnit(u.id) : undefined;
   }
 
+  /**
+   * The unit with this serial under this design and revision, each found by name or created (in the caller's
+   * transaction). A serial already used by a unit of another design or revision is ECONFLICT on "serial".
+   */
+  findOrCreateUnitByNames(names: { design: string; revision: string; serial: string }): Unit {
+    const byName = this.db.prepare('SELECT id FROM designs WHERE name = ?').get(names.design) as
+      { id: string } | undefined;
+    const designId = byName?.id ?? this.createDesign({ name: names.design, notes: '' }).id;
+    const rev = this.db
+      .prepare('SELECT id FROM revisions WHERE design_id = ? AND name = ?')
+      .get(designId, names.revision) as { id: string } | undefined;
+    const revisionId = rev?.id ?? this.createRevision({ designId, name: names.revision, changes: '' }).id;
+    const unit = this.findUnitBySerial(names.serial);
+    if (!unit)
+      return this.createUnit({ revisionId, serial: names.serial, buildDate: '', builder: '', notes: '' });
+    if (unit.revisionId !== revisionId) {
+      const owner = this.db
+        .prepare(
+          `SELECT d.name AS design, r.name AS revision FROM revisions r JOIN designs d ON d.id = r.design_id
+           WHERE r.id = ?`,
+        )
+        .get(unit.revisionId) as { design: string; revision: string };
+      throw new BenchError(
+        'ECONFLICT',
+        `unit "${names.serial}" belongs to ${owner.design} ${owner.revision}, not ${names.design} ${names.revision}`,
+        'serial',
+      );
+    }
+    return unit;
+  }
+
   tree(): Tree {
     const designs = this.db
       .prepare('SELECT id, name, notes, created_at AS createdAt FROM designs ORDER BY name')

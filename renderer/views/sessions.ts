@@ -1,5 +1,6 @@
 // Runs in the renderer. The sessions dialog: pick an earlier session, or set up a new one (design, revision,
 // unit, receiver, path, power) in one form. The set-up is checked by the service, which refuses unsafe ones.
+import { SETUP_CAUTION } from '../../app/caution';
 import type { ServiceClient, Session, SessionSummary, Tree } from '../../app/api';
 import { formatPath, parsePathSpec } from '../../app/path';
 import type { StoredReceiver } from '../../app/receiver';
@@ -239,17 +240,7 @@ function newSessionForm(tree: Tree, deps: SessionsDialogDeps, close: () => void)
         field('to', t.max),
       ),
     ),
-    h(
-      'div',
-      { class: 'wide' },
-      h(
-        'p',
-        { class: 'caution' },
-        'Caution: the app refuses a set-up whose computed receiver input exceeds the rated maximum, but it cannot see your cables. Transmit into a dummy load through a pad rated for the power, check the attenuation before keying, mind RF exposure and mains safety, and follow your licence and local regulations.',
-      ),
-      err,
-      start,
-    ),
+    h('div', { class: 'wide' }, h('p', { class: 'caution' }, `Caution: ${SETUP_CAUTION}`), err, start),
     lists,
   );
   form.addEventListener('submit', (ev) => {

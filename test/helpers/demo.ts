@@ -2,7 +2,7 @@
 // of it for each test that changes it.
 import { copyFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { seedDemo } from '../../main/demo';
+import { seedDemo } from '../../main/service/demo';
 import { Store } from '../../main/store/store';
 import { tempDir } from './tmp';
 

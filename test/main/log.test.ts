@@ -3,7 +3,7 @@ import assert from 'node:assert/strict';
 import { join } from 'node:path';
 import Database from 'better-sqlite3';
 import { main } from '../../main/shells/cli/index';
-import { pacedSource } from '../../main/bench/pace';
+import { pacedSource } from '../../main/live/pace';
 import { createSource } from '../../main/sources';
 import { tempDir } from '../helpers/tmp';
 import { runCli } from '../helpers/cli';

@@ -5,7 +5,7 @@ import { describe, it, before, after } from 'node:test';
 import assert from 'node:assert/strict';
 import { Socket } from 'node:net';
 import { BenchError } from '../../app/errors';
-import { Corrector } from '../../main/bench/correct';
+import { Corrector } from '../../main/live/correct';
 import { RigServer, rawCountsFromStrength } from '../../main/sim/rigserver';
 import { createSource } from '../../main/sources';
 import { LinkedSource } from '../../main/sources/link';

@@ -6,7 +6,7 @@ import assert from 'node:assert/strict';
 import { BenchError } from '../../app/errors';
 import { fitCalibrationFromInjections } from '../../app/calibration';
 import { iaruR1SUnitCalibration } from '../../app/receiver';
-import { Corrector } from '../../main/bench/correct';
+import { Corrector } from '../../main/live/correct';
 import { SimBench } from '../../main/sim/bench';
 import { SimSerialDevice, hexCountsFromStrength } from '../../main/sim/serialdevice';
 import { createSource } from '../../main/sources';

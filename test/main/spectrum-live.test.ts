@@ -1,7 +1,7 @@
 import { describe, it } from 'node:test';
 import assert from 'node:assert/strict';
 import type { SpectrumFrame } from '../../app/api';
-import type { LiveBench } from '../../main/bench/live';
+import type { LiveBench } from '../../main/live/live';
 import { SimSource } from '../../main/sources/sim';
 import { IqSimServer } from '../../main/sim/iqserver';
 import { dsbGenerator } from '../../main/sim/dsbsignal';
@@ -28,7 +28,7 @@ describe('Service spectrumStart/spectrumKeep (iqsim)', () => {
     const { service } = ctx;
     try {
       await service.invoke('openSession', { sessionId: ctx.session.id });
-      const live = (service as unknown as { live: LiveBench }).live;
+      const live = service.session.bench as LiveBench;
       assert.ok(live.source instanceof SimSource);
       const tx = live.source.bench.tx;
       const state = await service.invoke('spectrumStart', { source: 'iqsim' });
@@ -86,7 +86,7 @@ describe('Service spectrumStart/spectrumKeep (iqsim)', () => {
     const { service } = ctx;
     try {
       await service.invoke('openSession', { sessionId: ctx.session.id });
-      const live = (service as unknown as { live: LiveBench }).live;
+      const live = service.session.bench as LiveBench;
       assert.ok(live.source instanceof SimSource);
       const tx = live.source.bench.tx;
       await service.invoke('spectrumStart', { source: 'iqsim' });
@@ -150,7 +150,7 @@ describe('Service spectrumStart/spectrumKeep (iqsim)', () => {
       });
       await server.close();
       assert.match(await notice, /closed the connection|failed/);
-      assert.equal(service.spectrum.state().running, false);
+      assert.equal(service.spectrum.stream.state().running, false);
     } finally {
       await ctx.cleanup();
       await server.close().catch(() => undefined);
@@ -167,7 +167,7 @@ describe('Service spectrumStart/spectrumKeep (iqsim)', () => {
       // 1000 Hz tones are 4 bins of 250 Hz at FFT 1024: too close for the flat-top's main lobe.
       await assert.rejects(ctx.service.invoke('spectrumStart', { fftSize: 1024 }), /use a larger FFT/);
       await assert.rejects(ctx.service.invoke('spectrumStart', { fftSize: 1040 }), /multiple of 16/);
-      assert.equal(ctx.service.spectrum.state().running, false);
+      assert.equal(ctx.service.spectrum.stream.state().running, false);
     } finally {
       await ctx.cleanup();
     }

@@ -1,5 +1,5 @@
 // Runs in Node. `nullbench demo`: seed the invented demo scenario into a database.
-import { seedDemo } from '../../demo';
+import { seedDemo } from '../../service/demo';
 import { defaultDbPath } from '../../paths';
 import { Store } from '../../store/store';
 import { parseOptions, reportError, type Command } from './command';

@@ -11,9 +11,10 @@ import {
   type Session,
 } from '../../../app/api';
 import { benchErrorFromZod } from '../../../app/zodissue';
-import { MAX_RATE_HZ, pacedSource } from '../../bench/pace';
+import { MAX_RATE_HZ, pacedSource } from '../../live/pace';
 import { defaultDbPath } from '../../paths';
-import { RF_CAUTION, Service } from '../../service';
+import { RF_CAUTION } from '../../../app/caution';
+import { Service } from '../../service';
 import { createSource, SOURCES } from '../../sources';
 import { Store } from '../../store/store';
 import {

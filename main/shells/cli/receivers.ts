@@ -4,7 +4,8 @@ import { readFile } from 'node:fs/promises';
 import { BenchError } from '../../../app/errors';
 import type { StoredReceiver } from '../../../app/receiver';
 import { defaultDbPath } from '../../paths';
-import { ReceiverDesk } from '../../receivers';
+import { Service } from '../../service';
+import type { ReceiverCalls } from '../../service/receivers';
 import { Store } from '../../store/store';
 import { prompter } from './ask';
 import { numberOption, parseOptions, reportError, type Command, type Io } from './command';
@@ -105,7 +106,7 @@ export const receiversCommand: Command = {
         return arg;
       };
       store = new Store(values.db ?? defaultDbPath());
-      const desk = new ReceiverDesk({ store, busySource: () => null });
+      const desk = new Service({ store, mode: 'cli' }).receivers;
       const repo = desk.repo;
       switch (action) {
         case 'list': {
@@ -178,7 +179,7 @@ export const receiversCommand: Command = {
 };
 
 async function calibrate(
-  desk: ReceiverDesk,
+  desk: ReceiverCalls,
   name: string,
   values: Record<string, string | boolean | undefined>,
   io: Io,

@@ -8,7 +8,7 @@ import { EVENTS } from '../../../app/api';
 import { BenchError } from '../../../app/errors';
 import { benchErrorFromZod } from '../../../app/zodissue';
 import type { Service } from '../../service';
-import { toFailure } from '../../service';
+import { toFailure } from '../../../app/errors';
 import { CALL_CHANNEL, EVENT_CHANNEL_PREFIX } from './channels';
 import { isTrustedSenderUrl, windowOptions } from './config';
 

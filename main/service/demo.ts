@@ -1,10 +1,10 @@
 // Runs in Node. Seeds an invented scenario (our own design, boards and serials) so a new user sees
 // real-looking history at once: one design, two revisions, a few units, a session with sweeps on each.
-import type { PointRole, TrimDef } from '../app/api';
-import { BenchError } from '../app/errors';
-import { Service } from './service';
-import { createSource } from './sources';
-import type { Store } from './store/store';
+import type { PointRole, TrimDef } from '../../app/api';
+import { BenchError } from '../../app/errors';
+import { Service } from '.';
+import { createSource } from '../sources';
+import type { Store } from '../store/store';
 
 export const DEMO_DESIGN = 'Heron DSB-40';
 

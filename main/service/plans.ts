@@ -1,26 +1,17 @@
 // Runs in Node. The service side of frequency-stepped plans: checks a plan before it starts (receiver safety,
 // calibration coverage), runs one at a time on the open session, relays the operator's manual steps, and
 // shows runs with their result table.
-import type { NoticeEvent, ProgressEvent, Session } from '../app/api';
-import type { PlanView } from '../app/api/rxcalls';
-import { applyCalibration } from '../app/calibration';
-import { BenchError } from '../app/errors';
-import { analysePath, validatePath } from '../app/path';
-import { assertPlanSafe, planFrequencies, planTable, validatePlanSpec, type PlanRun } from '../app/plan';
-import { PlanRunner, type OperatorStep } from './bench/plan';
-import type { LiveBench } from './bench/live';
-import type { Handlers } from './service';
-import { PlanRepo } from './store/plans';
-import type { Store } from './store/store';
-
-export interface PlanDeskDeps {
-  store: Store;
-  live: () => LiveBench | null;
-  open: (sessionId: string) => Promise<Session>;
-  progress: (p: ProgressEvent) => void;
-  notice: (n: NoticeEvent) => void;
-  caution: string;
-}
+import type { Session } from '../../app/api';
+import type { PlanCallResults, PlanView } from '../../app/api/plans';
+import { RF_CAUTION } from '../../app/caution';
+import { applyCalibration } from '../../app/calibration';
+import { BenchError } from '../../app/errors';
+import { analysePath, validatePath } from '../../app/path';
+import { assertPlanSafe, planFrequencies, planTable, validatePlanSpec, type PlanRun } from '../../app/plan';
+import { PlanRunner, type OperatorStep } from '../live/plan';
+import type { LiveBench } from '../live/live';
+import { PlanRepo } from '../store/plans';
+import type { GroupHandlers, ServiceContext } from './handlers';
 
 interface Waiting {
   step: OperatorStep;
@@ -28,15 +19,17 @@ interface Waiting {
   reject: (e: Error) => void;
 }
 
-export class PlanDesk {
+export class PlanCalls {
   readonly repo: PlanRepo;
-  private readonly deps: PlanDeskDeps;
   private readonly runners = new Map<string, PlanRunner>();
   private readonly waiting = new Map<string, Waiting>();
 
-  constructor(deps: PlanDeskDeps) {
-    this.deps = deps;
-    this.repo = new PlanRepo(deps.store);
+  constructor(
+    private readonly ctx: ServiceContext,
+    /** Opens a session for a plan that names one (the session group's open). */
+    private readonly open: (sessionId: string) => Promise<Session>,
+  ) {
+    this.repo = new PlanRepo(ctx.store);
     // No runner survives a restart: runs still marked running were cut off, and can be resumed.
     this.repo.markInterrupted();
   }
@@ -48,7 +41,7 @@ export class PlanDesk {
   }
 
   view(run: PlanRun): PlanView {
-    const session = this.deps.store.getSession(run.sessionId);
+    const session = this.ctx.store.getSession(run.sessionId);
     const pathU = analysePath(validatePath(session.path)).uDb;
     const t = planTable(run.points, run.spec.reference, pathU);
     const runner = this.runners.get(run.id);
@@ -69,7 +62,7 @@ export class PlanDesk {
   }
 
   private requireLive(sessionId: string): LiveBench {
-    const live = this.deps.live();
+    const live = this.ctx.live();
     if (!live || live.session.id !== sessionId || !live.isRunning)
       throw new BenchError('ECONFLICT', 'the session is not open and reading: open it first', 'sessionId');
     return live;
@@ -84,7 +77,7 @@ export class PlanDesk {
       if (e instanceof BenchError && e.code === 'EUNSAFE')
         throw new BenchError(
           'EUNSAFE',
-          `plan refused: ${e.message.replace(/^(path|points): /, '')} ${this.deps.caution}`,
+          `plan refused: ${e.message.replace(/^(path|points): /, '')} ${RF_CAUTION}`,
           'plan.points',
         );
       throw e;
@@ -109,17 +102,17 @@ export class PlanDesk {
       {
         live,
         plans: this.repo,
-        progress: (p) => this.deps.progress(p),
-        notice: (level, code, message) => this.deps.notice({ level, code, message }),
+        progress: (p) => this.ctx.emit('progress', p),
+        notice: (level, code, message) => this.ctx.emit('notice', { level, code, message }),
         operator: (step) =>
           new Promise<void>((resolve, reject) => {
             this.waiting.set(runId, { step, resolve, reject });
-            this.deps.notice({
+            this.ctx.emit('notice', {
               level: 'info',
               code: 'OPERATOR',
               message: `Plan waits for you: ${step.prompt}`,
             });
-            this.deps.progress({
+            this.ctx.emit('progress', {
               task: `plan:${runId}`,
               done: -1,
               total: -1,
@@ -144,13 +137,13 @@ export class PlanDesk {
         'a plan is already running: cancel it or wait for it to finish',
         'plan',
       );
-    let live = this.deps.live();
+    let live = this.ctx.live();
     const sid = sessionId ?? live?.session.id;
     if (!sid)
       throw new BenchError('ECONFLICT', 'no session is open: open or create a session first', 'sessionId');
     if (!live || live.session.id !== sid) {
-      await this.deps.open(sid);
-      live = this.deps.live();
+      await this.open(sid);
+      live = this.ctx.live();
     }
     const l = this.requireLive(sid);
     const freqs = this.preflight(l, spec.points);
@@ -169,10 +162,10 @@ export class PlanDesk {
     if (this.active) throw new BenchError('ECONFLICT', 'another plan is running: cancel it first', 'planId');
     if (run.state === 'done')
       throw new BenchError('ECONFLICT', 'this plan is complete: start a new one to read again', 'planId');
-    let live = this.deps.live();
+    let live = this.ctx.live();
     if (!live || live.session.id !== run.sessionId) {
-      await this.deps.open(run.sessionId);
-      live = this.deps.live();
+      await this.open(run.sessionId);
+      live = this.ctx.live();
     }
     const l = this.requireLive(run.sessionId);
     this.preflight(l, run.spec.points);
@@ -216,10 +209,7 @@ export class PlanDesk {
     await Promise.all(all.map((r) => r.done.catch(() => undefined)));
   }
 
-  handlers(): Pick<
-    Handlers,
-    'planStart' | 'planCancel' | 'planResume' | 'planContinue' | 'getPlan' | 'listPlans'
-  > {
+  handlers(): GroupHandlers<keyof PlanCallResults> {
     return {
       planStart: (a) => this.start(a.sessionId, a.plan),
       planCancel: (a) => this.cancel(a.planId),
@@ -227,7 +217,7 @@ export class PlanDesk {
       planContinue: (a) => this.continue(a.planId, a.ok),
       getPlan: (a) => this.get(a.planId),
       listPlans: (a) => {
-        this.deps.store.getSession(a.sessionId);
+        this.ctx.store.getSession(a.sessionId);
         return this.repo.listRuns(a.sessionId).map((r) => this.view(r));
       },
     };

@@ -1,9 +1,8 @@
 // Runs anywhere (app/ is runtime-free). The calls for real receivers: serial command-set templates, stored
-// receiver profiles, guided calibration, and frequency-stepped plans. Spread into CALLS (contract.ts); their
+// receiver profiles and guided calibration. Spread into CALLS (contract.ts); their
 // results into CallResults (service.ts).
 import { z } from 'zod';
 import type { Calibration } from '../calibration';
-import type { PlanRow, PlanReference, PlanRun } from '../plan';
 import type { StoredReceiver } from '../receiver';
 import type { SerialTemplate } from '../serialtemplate';
 
@@ -35,15 +34,6 @@ export const RECEIVER_CALLS = {
     name: z.string().trim().min(1).max(120).optional(),
     save: z.boolean().default(false),
   }),
-  /** Start a frequency-stepped plan on the open session (or open `sessionId` first). */
-  planStart: z.object({ sessionId: Id.optional(), plan: z.unknown() }),
-  planCancel: z.object({ planId: Id }),
-  /** Continue a cancelled or interrupted plan at its first point not yet done. */
-  planResume: z.object({ planId: Id }),
-  /** Answer a manual step the plan waits for (unbalance the modulator, tune by hand): ok or stop. */
-  planContinue: z.object({ planId: Id, ok: z.boolean().default(true) }),
-  getPlan: z.object({ planId: Id }),
-  listPlans: z.object({ sessionId: Id }),
 } as const;
 
 export interface TemplateEntry {
@@ -69,19 +59,6 @@ export interface FitResult {
   receiver: StoredReceiver | null;
 }
 
-/** A plan run as the UI and CLI show it: the stored run, its result table, and what the runner is doing. */
-export interface PlanView extends PlanRun {
-  rows: PlanRow[];
-  reference: PlanReference | null;
-  /** Why there is no reference yet. */
-  referenceReason: string | null;
-  /** A runner is working on it in this process. */
-  active: boolean;
-  stage: string | null;
-  /** A manual step it waits for. */
-  waiting: { prompt: string; role: string; freqHz: number } | null;
-}
-
 export interface ReceiverCallResults {
   listTemplates: TemplateEntry[];
   saveTemplate: SerialTemplate;
@@ -91,10 +68,4 @@ export interface ReceiverCallResults {
   deleteReceiver: null;
   calibrationRead: CalibrationReadResult;
   fitCalibration: FitResult;
-  planStart: PlanView;
-  planCancel: PlanView;
-  planResume: PlanView;
-  planContinue: PlanView;
-  getPlan: PlanView;
-  listPlans: PlanView[];
 }

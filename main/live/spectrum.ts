@@ -4,8 +4,8 @@
 // server fed by the simulated bench's transmitter, so the trimmers turned in the app move its carrier.
 import { analysePath, rxToDut, validatePath } from '../../app/path';
 import { BenchError, check } from '../../app/errors';
-import type { ParsedArgs, Reading, Session } from '../../app/api';
-import type { SpectrumCallResults, SpectrumComponent, SpectrumFrame } from '../../app/api/spectrumcalls';
+import type { ParsedArgs, Session } from '../../app/api';
+import type { SpectrumCallResults, SpectrumComponent, SpectrumFrame } from '../../app/api/spectrum';
 import {
   defaultFftSize,
   isFftSize,
@@ -28,7 +28,6 @@ import { IqSimServer } from '../sim/iqserver';
 import { SimTransmitter } from '../sim/transmitter';
 import { SIM_SDR_DBM_AT_FULL_SCALE, transmitterIqGenerator } from '../sim/txiq';
 import { SimSource } from '../sources/sim';
-import type { Store } from '../store/store';
 
 const ROLE_OF: Record<ComponentRole, SpectrumComponent['role']> = {
   carrier: 'carrier',
@@ -47,8 +46,7 @@ const SPAN_TONES = 6.5;
 /** Share of 8-bit samples at 0 or 255 above which the SDR counts as overdriven (common practice: any clipping). */
 const CLIP_SHARE = 1e-4;
 
-export interface SpectrumDeskDeps {
-  store: Store;
+export interface SpectrumStreamDeps {
   live: () => LiveBench | null;
   emit: (frame: SpectrumFrame) => void;
   /** An error that stopped the stream. */
@@ -65,26 +63,19 @@ export function parseIqSpec(spec: string): { sim: true } | { sim: false; host: s
   return { sim: false, host: m[1].replace(/^\[|\]$/g, ''), port };
 }
 
-export class SpectrumDesk {
+/** The live SDR stream of the open session: start, stop, the dBm at 0 dBFS, and the latest frame. */
+export class SpectrumStream {
   private client: IqTcpClient | null = null;
   private server: IqSimServer | null = null;
   private running: Promise<void> | null = null;
   private stopping = false;
-  private source: string | null = null;
+  /** The IQ source spec the stream reads, while it runs. */
+  source: string | null = null;
   private latest: SpectrumFrame | null = null;
   /** dBm at 0 dBFS per receiver (source spec), as set by the user or the sim's own figure. */
   private readonly calibrations = new Map<string, DbfsCalibration>();
 
-  constructor(private readonly deps: SpectrumDeskDeps) {}
-
-  handlers() {
-    return {
-      spectrumStart: (a: ParsedArgs<'spectrumStart'>) => this.start(a),
-      spectrumStop: () => this.stop(),
-      spectrumCalibrate: (a: ParsedArgs<'spectrumCalibrate'>) => this.calibrate(a),
-      spectrumKeep: (a: ParsedArgs<'spectrumKeep'>) => this.keep(a.note),
-    };
-  }
+  constructor(private readonly deps: SpectrumStreamDeps) {}
 
   state(): SpectrumCallResults['spectrumStart'] {
     return {
@@ -99,7 +90,7 @@ export class SpectrumDesk {
     return this.latest;
   }
 
-  private requireSession(): { live: LiveBench; session: Session } {
+  requireSession(): { live: LiveBench; session: Session } {
     const live = this.deps.live();
     if (!live)
       throw new BenchError(
@@ -324,56 +315,5 @@ export class SpectrumDesk {
     }
     this.calibrations.set(source, cal);
     return cal;
-  }
-
-  /** Keeps the latest measurement: one reading per component in band, in one transaction. */
-  keep(note: string): Reading[] {
-    const { live, session } = this.requireSession();
-    const f = this.latest;
-    if (!f || !this.source)
-      throw new BenchError(
-        'ENAVAIL',
-        'no spectrum measured yet: start the spectrum and wait for a trace',
-        'spectrum',
-      );
-    if (f.sessionId !== session.id)
-      throw new BenchError('ECONFLICT', 'the spectrum belongs to another session: restart it', 'spectrum');
-    const cal = f.calibration;
-    if (!cal)
-      throw new BenchError(
-        'EINVAL',
-        `no dBm at 0 dBFS is set for ${this.source}: set it from the receiver's profile or a reference injection`,
-        'calibration',
-      );
-    const path = validatePath(session.path);
-    const supp = f.suppression
-      ? `suppression ${f.suppression.floorLimited ? '>= ' : ''}${f.suppression.db.toFixed(1)} dB`
-      : 'no tones seen';
-    const text = `spectrum (${supp})${note ? `: ${note}` : ''}`;
-    const list = f.components
-      .filter((c) => c.inBand && c.dbfs !== null)
-      .map((c) => {
-        const rx = dbfsToDbm(c.dbfs as number, c.uDb ?? 0, cal);
-        const dut = rxToDut(rx.dbm, rx.uDb, path);
-        return {
-          sessionId: session.id,
-          t: f.t,
-          freqHz: f.carrierHz + c.offsetHz,
-          role: c.role,
-          raw: c.dbfs as number,
-          dbmRx: rx.dbm,
-          dbmDut: dut.dbm,
-          uDb: dut.uDb,
-          settled: true,
-          kept: true,
-          floorLimited: c.floorLimited,
-          overload: f.overload,
-          trims: { ...live.trims },
-          calibration: cal,
-          path,
-          note: text,
-        };
-      });
-    return this.deps.store.addReadings(list);
   }
 }

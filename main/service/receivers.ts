@@ -1,25 +1,21 @@
 // Runs in Node. The service side of real receivers: serial templates and receiver profiles in the database,
 // the guided calibration (read the receiver at a known generator level, then fit a table), and what a
 // session's receiver resolves to (template snapshot, calibration for what the source reports).
-import type { ReceiverProfile } from '../app/api';
-import type { CalibrationReadResult, FitResult } from '../app/api/rxcalls';
-import { fitCalibrationFromInjections, applyCalibration, type CalibrationQuantity } from '../app/calibration';
-import { BenchError } from '../app/errors';
-import { calibrationFor, InjectionSchema, mergeBand } from '../app/receiver';
-import { validateTemplate, type SerialTemplate } from '../app/serialtemplate';
-import { benchErrorFromZod } from '../app/zodissue';
-import { createSource, findDriver } from './sources';
-import type { LevelSource, SourceEnv } from './sources/types';
-import type { Handlers } from './service';
-import { ReceiverRepo } from './store/receivers';
-import type { Store } from './store/store';
-
-export interface ReceiverDeskDeps {
-  store: Store;
-  makeSource?: (spec: string, env?: SourceEnv) => LevelSource;
-  /** The spec of the source the open session reads, if any (one port cannot serve two readers). */
-  busySource: () => string | null;
-}
+import type { ReceiverProfile } from '../../app/api';
+import type { CalibrationReadResult, FitResult, ReceiverCallResults } from '../../app/api/receivers';
+import {
+  fitCalibrationFromInjections,
+  applyCalibration,
+  type CalibrationQuantity,
+} from '../../app/calibration';
+import { BenchError } from '../../app/errors';
+import { calibrationFor, InjectionSchema, mergeBand } from '../../app/receiver';
+import { validateTemplate, type SerialTemplate } from '../../app/serialtemplate';
+import { benchErrorFromZod } from '../../app/zodissue';
+import { findDriver } from '../sources';
+import type { LevelSource, SourceEnv } from '../sources/types';
+import { ReceiverRepo } from '../store/receivers';
+import type { GroupHandlers, ServiceContext } from './handlers';
 
 /** The template name a spec names with ",template=NAME", if any. */
 export function templateNameInSpec(spec: string): string | null {
@@ -27,13 +23,11 @@ export function templateNameInSpec(spec: string): string | null {
   return m ? m[1] : null;
 }
 
-export class ReceiverDesk {
+export class ReceiverCalls {
   readonly repo: ReceiverRepo;
-  private readonly deps: ReceiverDeskDeps;
 
-  constructor(deps: ReceiverDeskDeps) {
-    this.deps = deps;
-    this.repo = new ReceiverRepo(deps.store);
+  constructor(private readonly ctx: ServiceContext) {
+    this.repo = new ReceiverRepo(ctx.store);
   }
 
   /**
@@ -69,12 +63,12 @@ export class ReceiverDesk {
 
   private source(spec: string, template: SerialTemplate | null): LevelSource {
     const env: SourceEnv = template ? { template } : {};
-    return (this.deps.makeSource ?? createSource)(spec, env);
+    return this.ctx.makeSource(spec, env);
   }
 
   async calibrationRead(receiverId: string, freqHz: number, count: number): Promise<CalibrationReadResult> {
     const rx = this.repo.getReceiver(receiverId);
-    const busy = this.deps.busySource();
+    const busy = this.ctx.live()?.source.spec ?? null;
     if (busy !== null && busy === rx.source)
       throw new BenchError(
         'ECONFLICT',
@@ -148,17 +142,7 @@ export class ReceiverDesk {
     return { calibration: merged, points, receiver };
   }
 
-  handlers(): Pick<
-    Handlers,
-    | 'listTemplates'
-    | 'saveTemplate'
-    | 'deleteTemplate'
-    | 'listReceivers'
-    | 'saveReceiver'
-    | 'deleteReceiver'
-    | 'calibrationRead'
-    | 'fitCalibration'
-  > {
+  handlers(): GroupHandlers<keyof ReceiverCallResults> {
     const check = (spec: string, template: string | null) => {
       const d = findDriver(spec);
       if (spec.startsWith('serial:') || template)

@@ -1,0 +1,126 @@
+// Runs in Node. The Service: parses every call with the contract's schema (app/api), dispatches it to its
+// call group (one file here per file of app/api: session, receivers, plans, records, nullfit, spectrum) and
+// emits the events. It holds no call logic of its own. Both shells (desktop IPC and the local web server)
+// and the CLI call into this.
+import { EventEmitter } from 'node:events';
+import type { z } from 'zod';
+import {
+  CALLS,
+  isCallName,
+  type CallName,
+  type CallResult,
+  type CallResults,
+  type EventPayloads,
+  type Status,
+} from '../../app/api';
+import { BenchError, toFailure } from '../../app/errors';
+import { benchErrorFromZod } from '../../app/zodissue';
+import type { LiveOptions } from '../live/live';
+import { chromiumPdf, type PdfRenderer } from '../sheet/pdf';
+import { createSource } from '../sources';
+import type { LevelSource, SourceEnv } from '../sources/types';
+import type { Store } from '../store/store';
+import type { Handlers, ServiceContext } from './handlers';
+import { NullfitCalls } from './nullfit';
+import { PlanCalls } from './plans';
+import { ReceiverCalls } from './receivers';
+import { RecordCalls } from './records';
+import { SessionCalls } from './session';
+import { SpectrumCalls } from './spectrum';
+
+export { VERSION } from './session';
+export type { Handlers } from './handlers';
+
+export interface ServiceOptions {
+  store: Store;
+  mode: Status['mode'];
+  live?: LiveOptions;
+  /** Overrides how sources are made (tests inject fakes). */
+  createSource?: (spec: string, env?: SourceEnv) => LevelSource;
+  /** Prints a test sheet to PDF: headless Chromium by default; the desktop shell passes its own. */
+  pdf?: PdfRenderer;
+}
+
+/** In-process typed call: throws the BenchError a failed call carries. */
+export type Invoke = <K extends CallName>(
+  name: K,
+  args: z.input<(typeof CALLS)[K]>,
+) => Promise<CallResults[K]>;
+
+export class Service {
+  readonly store: Store;
+  private readonly events = new EventEmitter();
+  private readonly handlers: Handlers;
+  readonly session: SessionCalls;
+  readonly receivers: ReceiverCalls;
+  readonly plans: PlanCalls;
+  readonly spectrum: SpectrumCalls;
+
+  constructor(opts: ServiceOptions) {
+    this.store = opts.store;
+    this.events.setMaxListeners(100);
+    const pdf = opts.pdf ?? chromiumPdf;
+    const ctx: ServiceContext = {
+      store: opts.store,
+      mode: opts.mode,
+      liveOptions: opts.live ?? {},
+      makeSource: opts.createSource ?? createSource,
+      pdf: () => pdf,
+      live: () => this.session.bench,
+      emit: (event, payload) => this.events.emit(event, payload),
+    };
+    this.receivers = new ReceiverCalls(ctx);
+    this.spectrum = new SpectrumCalls(ctx);
+    this.plans = new PlanCalls(ctx, (id) => this.session.open(id));
+    this.session = new SessionCalls(ctx, {
+      receivers: this.receivers,
+      tuneRefusal: () =>
+        this.plans.active ? 'a plan is stepping the receiver: cancel it before tuning by hand' : null,
+      beforeClose: async () => {
+        await this.plans.stopAll();
+        await this.spectrum.stream.stop();
+      },
+    });
+    this.handlers = {
+      ...this.session.handlers(),
+      ...this.receivers.handlers(),
+      ...this.plans.handlers(),
+      ...new RecordCalls(ctx).handlers(),
+      ...new NullfitCalls(ctx).handlers(),
+      ...this.spectrum.handlers(),
+    };
+  }
+
+  /** Parses the arguments with the contract's schema, runs the call, and never throws. */
+  async call(name: string, rawArgs: unknown): Promise<CallResult<unknown>> {
+    try {
+      if (!isCallName(name)) throw new BenchError('EINVAL', `unknown call "${name}"`, 'call');
+      const parsed = CALLS[name].safeParse(rawArgs ?? {});
+      if (!parsed.success) throw benchErrorFromZod(parsed.error, '');
+      const value = await (this.handlers[name] as (a: unknown) => unknown)(parsed.data);
+      return { ok: true, value };
+    } catch (e) {
+      return toFailure(e);
+    }
+  }
+
+  /** Direct typed call for in-process users (CLI, demo, tests); throws BenchError. */
+  readonly invoke: Invoke = async (name, args) => {
+    const r = await this.call(name, args);
+    if (!r.ok) throw BenchError.fromFailure(r);
+    return r.value as CallResults[typeof name];
+  };
+
+  listen<E extends keyof EventPayloads>(event: E, cb: (payload: EventPayloads[E]) => void): () => void {
+    this.events.on(event, cb as (p: unknown) => void);
+    return () => this.events.off(event, cb as (p: unknown) => void);
+  }
+
+  status(): Status {
+    return this.session.status();
+  }
+
+  async close(): Promise<void> {
+    await this.session.close();
+  }
+}
