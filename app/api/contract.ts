@@ -8,15 +8,32 @@ import { NULL_CALLS } from './nullfit';
 import { SESSION_CALLS } from './session';
 import { SPECTRUM_CALLS } from './spectrum';
 
-/** Argument schema of every call, by call group (one file of app/api each). The result types live in service.ts. */
-export const CALLS = {
+/** An argument schema that refuses unknown keys (a union: each of its objects does). */
+function strictArgs<S extends z.ZodType>(schema: S): S {
+  if (schema instanceof z.ZodObject) return schema.strict() as unknown as S;
+  if (schema instanceof z.ZodUnion)
+    return z.union(
+      schema.options.map((o) => strictArgs(o as z.ZodType)) as [z.ZodType, z.ZodType],
+    ) as unknown as S;
+  return schema;
+}
+
+function strictCalls<T extends Record<string, z.ZodType>>(calls: T): T {
+  return Object.fromEntries(Object.entries(calls).map(([k, s]) => [k, strictArgs(s)])) as T;
+}
+
+/**
+ * Argument schema of every call, by call group (one file of app/api each); the result types live in
+ * service.ts. Every call refuses an unknown argument, so a misspelt option is an error, not silently dropped.
+ */
+export const CALLS = strictCalls({
   ...SESSION_CALLS,
   ...RECEIVER_CALLS,
   ...PLAN_CALLS,
   ...RECORD_CALLS,
   ...NULL_CALLS,
   ...SPECTRUM_CALLS,
-} as const;
+} as const);
 
 export type CallName = keyof typeof CALLS;
 export type CallArgs<K extends CallName> = z.input<(typeof CALLS)[K]>;

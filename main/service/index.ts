@@ -96,7 +96,7 @@ export class Service {
     try {
       if (!isCallName(name)) throw new BenchError('EINVAL', `unknown call "${name}"`, 'call');
       const parsed = CALLS[name].safeParse(rawArgs ?? {});
-      if (!parsed.success) throw benchErrorFromZod(parsed.error, '');
+      if (!parsed.success) throw benchErrorFromZod(parsed.error, '', CALLS[name]);
       const value = await (this.handlers[name] as (a: unknown) => unknown)(parsed.data);
       return { ok: true, value };
     } catch (e) {

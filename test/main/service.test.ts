@@ -46,8 +46,11 @@ describe('Service', () => {
     try {
       const r = await t.service.call('createUnit', { revisionId: 'x', serial: '' });
       assert.deepEqual(r.ok ? null : [r.code, r.field], ['EINVAL', 'serial']);
+      // A stored session's own fields (id, dates, rxPepDbm) are no set-up arguments: the strict contract
+      // refuses them, so only the set-up is passed.
+      const { id: _id, startedAt: _s, endedAt: _e, rxPepDbm: _r, ...setup } = t.session;
       const r2 = await t.service.call('createSession', {
-        ...t.session,
+        ...setup,
         unitId: t.unitId,
         path: [{ kind: 'pad', db: -20 }],
       });
@@ -120,6 +123,27 @@ describe('Service', () => {
       await t.service.invoke('openSession', { sessionId: t.session.id });
       const r = await t.service.call('setTrims', { trims: { A: 12 } });
       assert.deepEqual(r.ok ? null : [r.code, r.field], ['EINVAL', 'trims.A']);
+    } finally {
+      await t.cleanup();
+    }
+  });
+});
+
+describe('Service: strict contract', () => {
+  it('refuses a misspelt argument by name, with the nearest known one, and keeps nothing', async () => {
+    const t = await serviceWithSession();
+    try {
+      await t.service.invoke('openSession', { sessionId: t.session.id });
+      const before = t.store.readings(t.session.id, { keptOnly: true }).length;
+      const r = await t.service.call('keep', { waitSettle: true });
+      assert.equal(r.ok, false);
+      if (r.ok) return;
+      assert.equal(r.code, 'EINVAL');
+      assert.equal(r.field, 'waitSettle');
+      assert.match(r.message, /did you mean "waitSettled"/);
+      assert.equal(t.store.readings(t.session.id, { keptOnly: true }).length, before, 'nothing was kept');
+      const ok = await t.service.call('keep', { waitSettled: true });
+      assert.equal(ok.ok, true, 'the right spelling keeps');
     } finally {
       await t.cleanup();
     }
