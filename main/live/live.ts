@@ -9,7 +9,7 @@ import {
   type Session,
   type TrimPositions,
 } from '../../app/api';
-import { BenchError } from '../../app/errors';
+import { BenchError, errorClass } from '../../app/errors';
 import { SettleDetector } from '../../app/nullfit/settle';
 import { dutToRx } from '../../app/path';
 import type { Store } from '../store/store';
@@ -265,8 +265,8 @@ export class LiveBench extends EventEmitter<LiveEvents> {
         if (gapId === null)
           gapId = this.store.addGap(this.session.id, this.source.now(), err.code, err.message);
         this.emit('error', err);
-        if (err.code === 'EINVAL') {
-          // A configuration fault does not heal by retrying: stop and say so.
+        if (errorClass(err.code) === 'permanent') {
+          // A configuration fault or a refusal does not heal by retrying: stop and say so.
           this.running = false;
           break;
         }

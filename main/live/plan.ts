@@ -5,7 +5,7 @@
 // point once the link is back, so no average spans a gap.
 import type { LiveReading, PointRole, ProgressEvent } from '../../app/api';
 import { ROLE_LABELS } from '../../app/api';
-import { BenchError } from '../../app/errors';
+import { BenchError, errorClass } from '../../app/errors';
 import { averagePoint, type PlanRun, type PlanSpec } from '../../app/plan';
 import type { LiveBench } from './live';
 import type { PlanRepo } from '../store/plans';
@@ -203,7 +203,7 @@ export class PlanRunner {
         await live.tune(role);
       } catch (e) {
         const err = e instanceof BenchError ? e : new BenchError('EIO', String(e));
-        if (err.code === 'EINVAL' || err.code === 'EUNSAFE' || err.code === 'ENAVAIL') throw err;
+        if (errorClass(err.code) === 'permanent') throw err;
         this.host.progress({
           task: `plan:${this.runId}`,
           done: idx,

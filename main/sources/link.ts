@@ -2,7 +2,7 @@
 // driver's operations, tells soft errors from broken links, and reconnects with backoff, re-tuning afterwards.
 // Callers see one error vocabulary: ETIMEOUT and EPROTO are soft (record a gap, go on); EIO means the link is
 // down and the next operation tries to bring it back.
-import { BenchError } from '../../app/errors';
+import { BenchError, errorClass } from '../../app/errors';
 import type { LevelSource, RawSample } from './types';
 
 export interface LinkOptions {
@@ -119,7 +119,8 @@ export class LinkedSource implements LevelSource {
 
   private async failed(e: unknown): Promise<BenchError> {
     const err = asBenchError(e);
-    if (err.code === 'ETIMEOUT' || err.code === 'EPROTO') {
+    const kind = errorClass(err.code);
+    if (kind === 'transient') {
       const run = ++this.softRun;
       if (run < this.softLimit) return err;
       await this.goDown(`${run} failed exchanges in a row (last: ${err.message})`);
@@ -128,7 +129,7 @@ export class LinkedSource implements LevelSource {
         `${err.message}; ${run} failed exchanges in a row, reconnecting to ${this.spec}`,
       );
     }
-    if (err.code === 'EIO') {
+    if (kind === 'link-down') {
       await this.goDown(err.message);
       return new BenchError('EIO', `${err.message}; reconnecting to ${this.spec}`);
     }
