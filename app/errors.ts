@@ -20,19 +20,23 @@ export class BenchError extends Error {
   /** Dotted path of the offending field or input position, e.g. "path[1].db" or "line 3". */
   readonly field?: string;
 
+  /** The message says what is wrong; the field, apart from it, says where (errorText joins them for people). */
   constructor(code: ErrorCode, message: string, field?: string) {
-    super(field ? `${field}: ${message}` : message);
+    super(message);
     this.name = 'BenchError';
     this.code = code;
     this.field = field;
   }
 
+  /** "BenchError: field: message", so a log line or an assertion on the error says where as well as what. */
+  override toString(): string {
+    return `${this.name}: ${errorText(this)}`;
+  }
+
   /** The BenchError a failed call carried across a process boundary. */
   static fromFailure(f: { code: string; message: string; field?: string }): BenchError {
     const code = (CODES as readonly string[]).includes(f.code) ? (f.code as ErrorCode) : 'EIO';
-    const prefix = f.field ? `${f.field}: ` : '';
-    const bare = prefix && f.message.startsWith(prefix) ? f.message.slice(prefix.length) : f.message;
-    return new BenchError(code, bare, f.field);
+    return new BenchError(code, f.message, f.field);
   }
 }
 
@@ -102,8 +106,7 @@ export function errorClass(code: string): ErrorClass {
 export function errorText(e: unknown): string {
   if (e instanceof BenchError || (typeof e === 'object' && e !== null && 'code' in e && 'message' in e)) {
     const f = e as { message: string; field?: string };
-    const prefix = f.field ? `${f.field}: ` : '';
-    return prefix && !f.message.startsWith(prefix) ? prefix + f.message : f.message;
+    return f.field ? `${f.field}: ${f.message}` : f.message;
   }
   return e instanceof Error ? e.message : String(e);
 }

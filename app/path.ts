@@ -425,7 +425,8 @@ export function dutToRx(dbmDut: number, elements: readonly PathElement[]): numbe
  * Refuse a set-up that would put more than the receiver's rated maximum into its input. Uses the least loss
  * the tolerances allow, so a pad at the bottom of its tolerance cannot tip it over.
  * @returns nominal and worst-case receiver input levels, dBm
- * @throws BenchError EUNSAFE with the extra attenuation needed
+ * @throws BenchError EUNSAFE with the extra attenuation needed (callers that show it add the one caution text,
+ *   app/caution.ts)
  */
 export function assertReceiverSafe(
   dbmDut: number,
@@ -444,7 +445,7 @@ export function assertReceiverSafe(
       `${fmt(dbmDut)} dBm at the transmitter through ${fmt(a.lossDb)} dB of path (${fmt(a.minLossDb)} dB at the ` +
         `low end of its tolerances) puts up to ${fmt(worstRxDbm)} dBm into the receiver, above its rated maximum of ` +
         `${fmt(rxMaxDbm)} dBm. Add at least ${fmt(Math.ceil(need * 10 - 1e-9) / 10, 1)} dB more attenuation before keying ` +
-        'the transmitter, and follow your licence conditions and local rules for RF exposure and test loads.',
+        'the transmitter.',
       'path',
     );
   }

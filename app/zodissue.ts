@@ -28,7 +28,9 @@ export function benchErrorFromZod(error: z.ZodError, root = '', schema?: z.ZodTy
     });
     const list = known.length ? `; known: ${known.join(', ')}` : ' (check the spelling)';
     message = `unknown key${issue.keys.length > 1 ? 's' : ''} ${parts.join(', ')}${list}`;
-    return new BenchError('EINVAL', message, fieldPath(root, [...issue.path, issue.keys[0]]));
+    // Checked against a call's schema, the unknown key is itself the field; elsewhere the object holding it.
+    const at = schema ? [...issue.path, issue.keys[0]] : issue.path;
+    return new BenchError('EINVAL', message, fieldPath(root, at));
   }
   return new BenchError('EINVAL', message, fieldPath(root, issue.path));
 }

@@ -1,5 +1,6 @@
 // Runs in the renderer (browser). The one API client: the preload bridge in the desktop app, HTTP calls and
 // server-sent events in web mode. Views speak only to this.
+import { errorText } from '../app/errors';
 import type { CallArgs, CallName, CallResult, CallResults, EventPayloads, ServiceClient } from '../app/api';
 
 export class ApiError extends Error {
@@ -24,7 +25,8 @@ declare global {
 }
 
 function unwrap<T>(r: CallResult<unknown>): T {
-  if (!r.ok) throw new ApiError(r.code, r.message, r.field);
+  // Shown to people as one line that says where and what; the field stays apart for the views to branch on.
+  if (!r.ok) throw new ApiError(r.code, errorText(r), r.field);
   return r.value as T;
 }
 

@@ -75,11 +75,7 @@ export class PlanCalls {
       assertPlanSafe(s.txPepDbm, validatePath(s.path), s.receiver.maxInputDbm, points);
     } catch (e) {
       if (e instanceof BenchError && e.code === 'EUNSAFE')
-        throw new BenchError(
-          'EUNSAFE',
-          `plan refused: ${e.message.replace(/^(path|points): /, '')} ${RF_CAUTION}`,
-          'plan.points',
-        );
+        throw new BenchError('EUNSAFE', `plan refused: ${e.message} ${RF_CAUTION}`, 'plan.points');
       throw e;
     }
     const freqs = planFrequencies(points, s.carrierHz, s.toneHz);
@@ -87,11 +83,7 @@ export class PlanCalls {
       try {
         applyCalibration(live.corrector.calibration, 0, f);
       } catch (e) {
-        throw new BenchError(
-          'EINVAL',
-          `point ${points[i]}: ${(e as Error).message.replace(/^freq_hz: /, '')}`,
-          `plan.points[${i}]`,
-        );
+        throw new BenchError('EINVAL', `point ${points[i]}: ${(e as Error).message}`, `plan.points[${i}]`);
       }
     });
     return freqs;

@@ -130,7 +130,7 @@ describe('Window.byName()', () => {
     for (const n of [8, 100.5, NaN]) {
       assert.throws(
         () => Window.hann(n),
-        (e: unknown) => e instanceof BenchError && e.code === 'EINVAL' && /Window\.hann/.test(e.message),
+        (e: unknown) => e instanceof BenchError && e.code === 'EINVAL' && /Window\.hann/.test(e.field ?? ''),
       );
     }
   });

@@ -1,6 +1,6 @@
 // Runs in Node. What every CLI command is: a record with its name, one-line summary, usage text and run().
 import { parseArgs, type ParseArgsConfig } from 'node:util';
-import { BenchError } from '../../../app/errors';
+import { BenchError, errorText } from '../../../app/errors';
 
 export interface Io {
   out(s: string): void;
@@ -43,7 +43,7 @@ export function numberOption(value: string | undefined, name: string, fallback?:
 /** Prints a BenchError the way every command does, and picks the exit code. */
 export function reportError(e: unknown, io: Io): number {
   if (e instanceof BenchError) {
-    io.err(`error (${e.code}): ${e.message}\n`);
+    io.err(`error (${e.code}): ${errorText(e)}\n`);
     return e.code === 'EINVAL' ? 2 : 1;
   }
   io.err(`error: ${e instanceof Error ? e.message : String(e)}\n`);

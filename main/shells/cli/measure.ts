@@ -127,7 +127,7 @@ const OPTION_OF: Record<string, string> = {
 
 function asOptionError(e: unknown): unknown {
   if (!(e instanceof BenchError) || !e.field || !(e.field in OPTION_OF)) return e;
-  return new BenchError(e.code, e.message.slice(e.field.length + 2), OPTION_OF[e.field]);
+  return new BenchError(e.code, e.message, OPTION_OF[e.field]);
 }
 
 export interface RecordingMeasureOptions {
