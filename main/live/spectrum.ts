@@ -28,6 +28,7 @@ import { IqSimServer } from '../sim/iqserver';
 import { SimTransmitter } from '../sim/transmitter';
 import { SIM_SDR_DBM_AT_FULL_SCALE, transmitterIqGenerator } from '../sim/txiq';
 import { SimSource } from '../sources/sim';
+import { parseIqSpec } from '../sources/iq/spec';
 
 const ROLE_OF: Record<ComponentRole, SpectrumComponent['role']> = {
   carrier: 'carrier',
@@ -51,16 +52,6 @@ export interface SpectrumStreamDeps {
   emit: (frame: SpectrumFrame) => void;
   /** An error that stopped the stream. */
   failed: (e: BenchError) => void;
-}
-
-/** Parses `iqsim` or `iq:HOST:PORT`. */
-export function parseIqSpec(spec: string): { sim: true } | { sim: false; host: string; port: number } {
-  if (spec === 'iqsim') return { sim: true };
-  const m = /^iq:([A-Za-z0-9.-]+|\[[0-9a-fA-F:]+\]):(\d{1,5})$/.exec(spec);
-  if (!m) throw new BenchError('EINVAL', `"${spec}" is neither "iqsim" nor "iq:HOST:PORT"`, 'source');
-  const port = Number(m[2]);
-  check(port > 0 && port < 65536, 'source', `port must be 1..65535, got ${port}`);
-  return { sim: false, host: m[1].replace(/^\[|\]$/g, ''), port };
 }
 
 /** The live SDR stream of the open session: start, stop, the dBm at 0 dBFS, and the latest frame. */

@@ -12,16 +12,10 @@ import { BenchError } from '../../app/errors';
 import { calibrationFor, InjectionSchema, mergeBand } from '../../app/receiver';
 import { validateTemplate, type SerialTemplate } from '../../app/serialtemplate';
 import { benchErrorFromZod } from '../../app/zodissue';
-import { findDriver } from '../sources';
+import { findDriver, takesTemplate, templateNameInSpec } from '../sources';
 import type { LevelSource, SourceEnv } from '../sources/types';
 import { ReceiverRepo } from '../store/receivers';
 import type { GroupHandlers, ServiceContext } from './handlers';
-
-/** The template name a spec names with ",template=NAME", if any. */
-export function templateNameInSpec(spec: string): string | null {
-  const m = /,template=([^,]+)/.exec(spec);
-  return m ? m[1] : null;
-}
 
 export class ReceiverCalls {
   readonly repo: ReceiverRepo;
@@ -35,13 +29,13 @@ export class ReceiverCalls {
    * take none; EINVAL for a serial source without one.
    */
   templateFor(source: string, template: unknown): SerialTemplate | null {
-    if (template != null && template !== '' && !source.startsWith('serial:'))
+    if (template != null && template !== '' && !takesTemplate(source))
       throw new BenchError('EINVAL', 'only a serial receiver takes a command-set template', 'template');
     if (template != null && typeof template === 'object')
       return validateTemplate(template, 'receiver.template');
     const name = typeof template === 'string' ? template : templateNameInSpec(source);
     if (name) return this.repo.template(name);
-    if (source.startsWith('serial:'))
+    if (takesTemplate(source))
       throw new BenchError('EINVAL', 'a serial receiver needs a command-set template', 'receiver.template');
     return null;
   }
@@ -145,8 +139,7 @@ export class ReceiverCalls {
   handlers(): GroupHandlers<keyof ReceiverCallResults> {
     const check = (spec: string, template: string | null) => {
       const d = findDriver(spec);
-      if (spec.startsWith('serial:') || template)
-        d.quantity?.(spec, { template: this.templateFor(spec, template) });
+      if (takesTemplate(spec) || template) d.quantity?.(spec, { template: this.templateFor(spec, template) });
       else d.quantity?.(spec);
     };
     return {

@@ -20,4 +20,17 @@ export function createSource(spec: string, env?: SourceEnv): LevelSource {
   return findDriver(spec).create(spec.trim(), env);
 }
 
+/** Whether the source a spec names speaks through a command-set template (a serial receiver does). */
+export function takesTemplate(spec: string): boolean {
+  const d = SOURCES.find((s) => s.matches(spec.trim()));
+  return d?.caps.template === true;
+}
+
+/** The template name a spec names with ",template=NAME", if any. */
+export function templateNameInSpec(spec: string): string | null {
+  const m = /,template=([^,]+)/.exec(spec);
+  return m ? m[1] : null;
+}
+
+export { parseIqSpec } from './iq/spec';
 export type { LevelSource, SourceDriver, SourceEnv } from './types';

@@ -376,7 +376,7 @@ export const serialDriver: SourceDriver = {
   kind: 'serial',
   summary: 'a receiver answering ASCII commands on a serial port, through a command-set template',
   syntax: SYNTAX,
-  caps: { tune: true, trims: false, unbalance: false, reconnect: true },
+  caps: { tune: true, trims: false, unbalance: false, reconnect: true, template: true },
   matches: (spec) => spec.startsWith('serial:'),
   create: (spec, env) => {
     const parsed = parseSerialSpec(spec);

@@ -3,7 +3,7 @@ import { BenchError } from '../../app/errors';
 import { SimBench } from '../sim/bench';
 import type { LevelSource, RawSample, SourceCaps, SourceDriver } from './types';
 
-const CAPS: SourceCaps = { tune: true, trims: true, unbalance: true };
+const CAPS: SourceCaps = { tune: true, trims: true, unbalance: true, simulated: true };
 
 export interface SimSpec {
   seed: number;

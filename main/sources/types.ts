@@ -23,6 +23,10 @@ export interface SourceCaps {
   mode?: boolean;
   /** Talks over a link that can break: errors are soft (ETIMEOUT, EPROTO) or need a reconnect (EIO). */
   reconnect?: boolean;
+  /** Speaks through a command-set template (app/serialtemplate), given in full, by name, or in the spec. */
+  template?: boolean;
+  /** The built-in simulated bench, not a real receiver. */
+  simulated?: boolean;
 }
 
 /** What a driver may need besides its spec: a serial command-set template (already validated). */

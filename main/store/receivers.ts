@@ -18,6 +18,7 @@ import {
 import { benchErrorFromZod } from '../../app/zodissue';
 import type { TemplateEntry } from '../../app/api/receivers';
 import type { Store } from './store';
+import { takesTemplate, templateNameInSpec } from '../sources';
 
 interface ReceiverRow {
   id: string;
@@ -173,7 +174,7 @@ export class ReceiverRepo {
     if (!parsed.success) throw benchErrorFromZod(parsed.error, '');
     const p = parsed.data;
     const calibration = p.calibration == null ? null : validateCalibration(p.calibration);
-    if (p.source.startsWith('serial:') && !p.template && !/[,]template=/.test(p.source))
+    if (takesTemplate(p.source) && !p.template && !templateNameInSpec(p.source))
       throw new BenchError('EINVAL', 'a serial receiver needs a command-set template', 'template');
     if (p.template) this.template(p.template);
     check?.(p.source, p.template);

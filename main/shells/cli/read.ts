@@ -9,7 +9,7 @@ import { calibrationFor } from '../../../app/receiver';
 import { builtinTemplate, type SerialTemplate } from '../../../app/serialtemplate';
 import { Corrector } from '../../live/correct';
 import { defaultDbPath } from '../../paths';
-import { templateNameInSpec } from '../../service/receivers';
+import { templateNameInSpec } from '../../sources';
 import { createSource, findDriver, SOURCES } from '../../sources';
 import { ReceiverRepo } from '../../store/receivers';
 import { Store } from '../../store/store';
