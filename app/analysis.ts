@@ -14,7 +14,7 @@ export const EMISSION_LABELS: Record<Emission, string> = {
 };
 
 /**
- * What carrier suppression is stated against (DESIGN.md "Suppression references"):
+ * What carrier suppression is stated against (docs/design.md § Suppression references):
  * tone       one sideband tone of the test signal;
  * pep        the peak envelope power of the test signal;
  * unbalanced the carrier read with the modulator deliberately unbalanced (the "reference" point).
@@ -27,7 +27,7 @@ export const REFERENCE_LABELS: Record<SuppressionReference, string> = {
   unbalanced: 'unbalanced carrier',
 };
 
-/** 10·log10(4): a two-line signal of equal lines has its PEP 6.02 dB above one line (REFERENCES.md). */
+/** 10·log10(4): a two-line signal of equal lines has its PEP 6.02 dB above one line (docs/references.md). */
 export const TWO_TONE_PEP_DB = 10 * Math.log10(4);
 
 /** Within this many dB of the measured receiver floor a reading is a bound, not a value (common practice). */
@@ -227,7 +227,7 @@ export function analyseSession(readings: readonly PointLevel[], emission: Emissi
     const [u, l] = wanted;
     const pm = (mw(u.dbm) + mw(l.dbm)) / 2;
     tone = combine(wanted, db(pm), [mw(u.dbm) / (2 * pm), mw(l.dbm) / (2 * pm)]);
-    // PEP of two lines: their amplitudes add at the crest of the envelope (REFERENCES.md "Modulation and power").
+    // PEP of two lines: their amplitudes add at the crest of the envelope (docs/references.md § Modulation and power).
     const a = Math.sqrt(mw(u.dbm));
     const b = Math.sqrt(mw(l.dbm));
     pep = combine(wanted, db((a + b) ** 2), [a / (a + b), b / (a + b)]);

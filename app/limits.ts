@@ -163,7 +163,7 @@ const W_25UW_DBM = 10 * Math.log10(25e-3); // 25 µW = −16.02 dBm
 const W_10UW_DBM = 10 * Math.log10(10e-3); // 10 µW = −20.00 dBm
 
 /**
- * The limit sets we ship. Sources as given in REFERENCES.md "Emission limits"; each is marked for how
+ * The limit sets we ship. Sources as given in docs/references.md § Emission limits; each is marked for how
  * much it can be relied on, and every one carries VERIFY_CAUTION.
  */
 export const PRESETS: readonly LimitSet[] = [

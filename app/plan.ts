@@ -8,7 +8,7 @@ import { dbmToWatts, wattsToDbm } from './levels';
 import { assertReceiverSafe, type PathElement } from './path';
 import { benchErrorFromZod } from './zodissue';
 
-/** The suppression reference (DESIGN.md "Suppression references"), in the vocabulary of app/analysis. */
+/** The suppression reference (docs/design.md § Suppression references), in the vocabulary of app/analysis. */
 export type ReferenceKind = SuppressionReference;
 
 /** The usual first plan: carrier, both tones and the third-order products. */
@@ -211,7 +211,7 @@ export function relativeUDb(a: PointAverage, pathUDb: number): number {
  * The reference level at the transmitter, dBm, or null with the reason it cannot be formed yet.
  * - tone: the power mean of the upper and lower tone (either one if only one was read);
  * - pep: the envelope peak of the two sidebands, (sqrt(Pu) + sqrt(Pl))^2: for equal tones 4 x one tone
- *   (REFERENCES.md: DSB-SC with one tone, PEP = 4 x one tone's power); one tone alone (SSB): its power;
+ *   (docs/references.md: DSB-SC with one tone, PEP = 4 x one tone's power); one tone alone (SSB): its power;
  * - unbalanced: the carrier read at the "reference" point.
  */
 export function planReference(

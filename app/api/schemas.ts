@@ -2,7 +2,7 @@
 // Both shells and the renderer use these; the main side parses every argument with them.
 import { z } from 'zod';
 
-/** Role of a frequency point relative to the carrier (DESIGN.md "point"). */
+/** Role of a frequency point relative to the carrier (docs/design.md § Vocabulary). */
 export const POINT_ROLES = [
   'carrier',
   'upper',

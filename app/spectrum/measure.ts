@@ -302,7 +302,7 @@ export function measureSpectrum(spectrum: AveragedSpectrum, params: TwoToneParam
   let suppression: BoundedDb | null = null;
   let refTone = 0;
   let refU = 0;
-  let pepOverTone = 4; // two equal tones: PEP = 4 x one tone (REFERENCES.md, Modulation and power)
+  let pepOverTone = 4; // two equal tones: PEP = 4 x one tone (docs/references.md § Modulation and power)
   if (upP > 0 || loP > 0) {
     const strong = upP >= loP ? up : lo;
     const weak = upP >= loP ? lo : up;

@@ -12,7 +12,7 @@ import {
 import { BenchError, errorClass } from '../../app/errors';
 import { SettleDetector } from '../../app/nullfit/settle';
 import { dutToRx } from '../../app/path';
-import type { Store } from '../store/store';
+import type { ReadingSink } from './sink';
 import type { LevelSource } from '../sources/types';
 import { Corrector } from './correct';
 
@@ -46,7 +46,7 @@ export class LiveBench extends EventEmitter<LiveEvents> {
   readonly session: Session;
   readonly source: LevelSource;
   readonly corrector: Corrector;
-  private readonly store: Store;
+  private readonly store: ReadingSink;
   private readonly settle: SettleDetector;
   private readonly opts: Required<Omit<LiveOptions, 'initialTrims'>>;
   private running = false;
@@ -63,7 +63,7 @@ export class LiveBench extends EventEmitter<LiveEvents> {
   trims: TrimPositions;
   lastError: string | null = null;
 
-  constructor(store: Store, session: Session, source: LevelSource, opts: LiveOptions = {}) {
+  constructor(store: ReadingSink, session: Session, source: LevelSource, opts: LiveOptions = {}) {
     super();
     this.store = store;
     this.session = session;

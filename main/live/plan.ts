@@ -8,7 +8,7 @@ import { ROLE_LABELS } from '../../app/api';
 import { BenchError, errorClass } from '../../app/errors';
 import { averagePoint, type PlanRun, type PlanSpec } from '../../app/plan';
 import type { LiveBench } from './live';
-import type { PlanRepo } from '../store/plans';
+import type { PlanRecorder } from './sink';
 
 /** A manual step the operator must do and confirm (the source cannot do it itself). */
 export interface OperatorStep {
@@ -21,7 +21,7 @@ export interface OperatorStep {
 
 export interface PlanHost {
   live: LiveBench;
-  plans: PlanRepo;
+  plans: PlanRecorder;
   progress(p: ProgressEvent): void;
   notice(level: 'info' | 'warn' | 'error', code: string, message: string): void;
   /** Resolves when the operator has done the step; rejects to stop the plan. */

@@ -12,7 +12,7 @@ export interface TransmitterConfig {
   carrierHz: number;
   /** Audio tone offset, Hz (one tone: sidebands at carrier ± tone). */
   toneHz: number;
-  /** Peak envelope power of the test signal, dBm. DSB with one tone: PEP = 4 × one sideband (REFERENCES.md). */
+  /** Peak envelope power of the test signal, dBm. DSB with one tone: PEP = 4 × one sideband (docs/references.md). */
   pepDbm: number;
   mode: 'dsb' | 'usb' | 'lsb';
   /** Opposite-sideband suppression of the SSB filter, dB. */

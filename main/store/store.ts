@@ -16,6 +16,7 @@ import type {
   Unit,
 } from '../../app/api';
 import { openDb, type Db, type OpenOptions } from './db';
+import type { NewReading, ReadingSink } from '../live/sink';
 
 export interface NewSession {
   unitId: string;
@@ -32,26 +33,7 @@ export interface NewSession {
   id?: string;
 }
 
-export interface NewReading {
-  sessionId: string;
-  t: number;
-  freqHz: number;
-  role: PointRole;
-  raw: number;
-  dbmRx: number;
-  dbmDut: number;
-  uDb: number;
-  settled: boolean;
-  kept: boolean;
-  floorLimited: boolean;
-  overload: boolean;
-  trims: TrimPositions;
-  /** The calibration and the path this reading was corrected with. */
-  calibration: unknown;
-  path: unknown[];
-  note?: string;
-  uid?: string;
-}
+export type { NewReading } from '../live/sink';
 
 interface ReadingRow {
   id: number;
@@ -131,7 +113,7 @@ function isUniqueViolation(e: unknown): boolean {
   return e instanceof Error && /UNIQUE constraint failed/.test(e.message);
 }
 
-export class Store {
+export class Store implements ReadingSink {
   readonly db: Db;
   readonly file: string;
   private readonly insertReadingStmt;

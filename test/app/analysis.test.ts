@@ -69,13 +69,13 @@ describe('analysis.analyseSession()', () => {
       pt('imd3l', -9),
     ]);
     near(f.tone!.dbm, 24, 1e-9, 'tone');
-    // REFERENCES.md "Modulation and power": DSB with one tone, PEP = 4 x one tone's power (+6.02 dB).
+    // docs/references.md § Modulation and power: DSB with one tone, PEP = 4 x one tone's power (+6.02 dB).
     near(f.pep!.dbm - f.tone!.dbm, 6.0206, 1e-4, 'PEP above one tone');
     near(TWO_TONE_PEP_DB, 6.0206, 1e-4);
     near(f.carrier.tone!.value, 52, 1e-9, 'carrier below one tone');
     near(f.carrier.pep!.value, 58.0206, 1e-4, 'carrier below PEP');
     near(f.carrier.unbalanced!.value, 49, 1e-9, 'carrier below the unbalanced carrier');
-    // REFERENCES.md "Power sum": the fundamental's mean power is the sum of its lines' powers.
+    // docs/references.md § Power sum and noise correction: the fundamental's mean power is the sum of its lines' powers.
     near(f.mean!.dbm, 10 * Math.log10(2 * 10 ** 2.4 + 10 ** -2.8), 1e-9, 'mean power');
     near(f.balance!.value, 0, 1e-12);
     assert.equal(f.opposite, null, 'no opposite sideband in DSB');
@@ -89,7 +89,7 @@ describe('analysis.analyseSession()', () => {
       pt('imd3u', -30),
       pt('imd3l', -31),
     ]);
-    // REFERENCES.md "Modulation and power": -30 dBc per tone = -36 dB PEP (the worse line counts).
+    // docs/references.md § Modulation and power: -30 dBc per tone = -36 dB PEP (the worse line counts).
     near(f.imd3.tone!.value, 30, 1e-9, 'IMD3 below one tone');
     near(f.imd3.pep!.value, 36.02, 0.005, 'IMD3 below PEP');
     near(metricFigure(f, 'imd3', 'pep')!.value, 36.02, 0.005);

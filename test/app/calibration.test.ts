@@ -221,7 +221,7 @@ describe('calibration.iaruR1Calibration()', () => {
   });
 
   it('reads STRENGTH as dB relative to S9, 6 dB per S-unit', () => {
-    // Rig-control STRENGTH: S9 -> 0, S7 -> -12 (REFERENCES.md "Protocols"); IARU R.1: 6 dB per S-unit
+    // Rig-control STRENGTH: S9 -> 0, S7 -> -12 (docs/references.md § Rig-control daemon); IARU R.1: 6 dB per S-unit
     assert.equal(applyCalibration(hf, -12, 7.1e6).dbm, -85);
     assert.equal(applyCalibration(hf, -48, 7.1e6).dbm, -121); // IARU R.1 derived: S1 = -121 dBm
     assert.equal(applyCalibration(hf, -6, 7.1e6).dbm, -79); // IARU R.1 derived: S8 = -79 dBm

@@ -77,15 +77,15 @@ describe('levels.dbmToWatts() / wattsToDbm()', () => {
 });
 
 describe('levels.dbmToVrms() / vrmsToDbm()', () => {
-  it('matches the 50 ohm values in REFERENCES.md "Levels"', () => {
-    near(dbmToVrms(0), 0.2236, 0.00005); // V_rms = sqrt(0.05 * 10^(dBm/10)), computed in REFERENCES.md
-    near(dbmToVrms(-73), 50.06e-6, 0.005e-6); // REFERENCES.md: -73 dBm = 50.06 uV
-    near(dbmToVrms(-107), 0.9988e-6, 0.00005e-6); // REFERENCES.md: -107 dBm = 0.9988 uV
-    near(dbmToVrms(30), 7.071, 0.0005); // REFERENCES.md: +30 dBm = 7.071 V rms
+  it('matches the 50 ohm values in docs/references.md § Levels', () => {
+    near(dbmToVrms(0), 0.2236, 0.00005); // V_rms = sqrt(0.05 * 10^(dBm/10)), computed in docs/references.md
+    near(dbmToVrms(-73), 50.06e-6, 0.005e-6); // docs/references.md: -73 dBm = 50.06 uV
+    near(dbmToVrms(-107), 0.9988e-6, 0.00005e-6); // docs/references.md: -107 dBm = 0.9988 uV
+    near(dbmToVrms(30), 7.071, 0.0005); // docs/references.md: +30 dBm = 7.071 V rms
   });
 
   it('puts exactly 50 uV at -73.01 dBm (IARU R.1 S9 below 30 MHz)', () => {
-    near(vrmsToDbm(50e-6), -73.01, 0.005); // IARU Region 1 Technical Recommendation R.1, derived value in REFERENCES.md
+    near(vrmsToDbm(50e-6), -73.01, 0.005); // IARU Region 1 Technical Recommendation R.1, derived value in docs/references.md
     near(vrmsToDbm(5e-6), -93.01, 0.005); // IARU R.1: S9 = 5 uV above 144 MHz
   });
 
@@ -104,8 +104,8 @@ describe('levels.dbmToVrms() / vrmsToDbm()', () => {
 
 describe('levels.dbmToDbuv() / dbuvToDbm()', () => {
   it('adds 106.99 dB in 50 ohm', () => {
-    near(dbmToDbuv(0), 106.99, 0.005); // REFERENCES.md: 0 dBm = 106.99 dBuV
-    near(dbmToDbuv(-73), 33.99, 0.005); // REFERENCES.md: -73 dBm = 33.99 dBuV
+    near(dbmToDbuv(0), 106.99, 0.005); // docs/references.md: 0 dBm = 106.99 dBuV
+    near(dbmToDbuv(-73), 33.99, 0.005); // docs/references.md: -73 dBm = 33.99 dBuV
     near(dbuvToDbm(106.99), 0, 0.005);
   });
 
@@ -120,7 +120,7 @@ describe('levels.dbmToDbuv() / dbuvToDbm()', () => {
 
 describe('levels.powerSumDb()', () => {
   it('reads a signal equal to the noise as +3.01 dB', () => {
-    near(powerSumDb(-120, -120), -120 + 3.01, 0.005); // REFERENCES.md "Levels": power sum, +3.01 dB
+    near(powerSumDb(-120, -120), -120 + 3.01, 0.005); // docs/references.md § Levels: power sum, +3.01 dB
   });
 
   it('sums any number of levels in power', () => {
@@ -144,12 +144,12 @@ describe('levels.powerSumDb()', () => {
 describe('levels.noiseCorrectedDb()', () => {
   it('undoes a power sum', () => {
     const m = powerSumDb(-100, -105);
-    near(noiseCorrectedDb(m, -105) as number, -100, 1e-9); // REFERENCES.md: 10*log10(10^(m/10) - 10^(n/10))
+    near(noiseCorrectedDb(m, -105) as number, -100, 1e-9); // docs/references.md: 10*log10(10^(m/10) - 10^(n/10))
     near(noiseCorrectedDb(-117, -120) as number, 10 * Math.log10(10 ** -11.7 - 10 ** -12), 1e-9);
   });
 
   it('takes 3.01 dB off a reading 3.01 dB above the noise', () => {
-    near(noiseCorrectedDb(-116.99, -120) as number, -120, 0.005); // REFERENCES.md: equal signal and noise reads +3.01 dB
+    near(noiseCorrectedDb(-116.99, -120) as number, -120, 0.005); // docs/references.md: equal signal and noise reads +3.01 dB
   });
 
   it('is nearly the reading when the noise is far below', () => {
@@ -164,16 +164,16 @@ describe('levels.noiseCorrectedDb()', () => {
 });
 
 describe('levels.thermalNoiseDbm()', () => {
-  it('matches kT and kTB in REFERENCES.md "Thermal noise"', () => {
+  it('matches kT and kTB in docs/references.md § Thermal noise', () => {
     assert.equal(BOLTZMANN, 1.380649e-23); // SI 2019 exact value
-    near(thermalNoiseDbm(1), -173.98, 0.005); // REFERENCES.md: kT at 290 K = -173.98 dBm/Hz
-    near(thermalNoiseDbm(500), -146.99, 0.005); // REFERENCES.md: kTB 500 Hz
-    near(thermalNoiseDbm(2400), -140.17, 0.005); // REFERENCES.md: kTB 2.4 kHz
-    near(thermalNoiseDbm(3000), -139.2, 0.005); // REFERENCES.md: kTB 3 kHz
+    near(thermalNoiseDbm(1), -173.98, 0.005); // docs/references.md: kT at 290 K = -173.98 dBm/Hz
+    near(thermalNoiseDbm(500), -146.99, 0.005); // docs/references.md: kTB 500 Hz
+    near(thermalNoiseDbm(2400), -140.17, 0.005); // docs/references.md: kTB 2.4 kHz
+    near(thermalNoiseDbm(3000), -139.2, 0.005); // docs/references.md: kTB 3 kHz
   });
 
   it('adds the noise figure and scales with temperature', () => {
-    near(thermalNoiseDbm(2400, 8), -140.17 + 8, 0.005); // REFERENCES.md: floor = kTB + NF
+    near(thermalNoiseDbm(2400, 8), -140.17 + 8, 0.005); // docs/references.md: floor = kTB + NF
     near(thermalNoiseDbm(1, 0, 580), -173.98 + 10 * Math.log10(2), 0.005); // kT doubles with T
   });
 
@@ -192,10 +192,10 @@ describe('levels.toDbm() / fromDbm()', () => {
       [1, 'W', 30],
       [1, 'mW', 0],
       [1000, 'uW', 0],
-      [7.0710678, 'V', 30], // REFERENCES.md: +30 dBm = 7.071 V rms
-      [223.607, 'mV', 0], // REFERENCES.md: 0 dBm = 223.6 mV rms
-      [50.06, 'uV', -73], // REFERENCES.md: -73 dBm = 50.06 uV
-      [106.99, 'dBuV', 0], // REFERENCES.md: 0 dBm = 106.99 dBuV
+      [7.0710678, 'V', 30], // docs/references.md: +30 dBm = 7.071 V rms
+      [223.607, 'mV', 0], // docs/references.md: 0 dBm = 223.6 mV rms
+      [50.06, 'uV', -73], // docs/references.md: -73 dBm = 50.06 uV
+      [106.99, 'dBuV', 0], // docs/references.md: 0 dBm = 106.99 dBuV
     ];
     for (const [value, unit, dbm] of cases) {
       near(toDbm(value, unit), dbm, 0.005, unit);
@@ -257,7 +257,7 @@ describe('levels.iaruR1Scale()', () => {
 });
 
 describe('levels.sToDbm()', () => {
-  it('matches the R.1 values in REFERENCES.md', () => {
+  it('matches the R.1 values in docs/references.md', () => {
     assert.equal(sToDbm(9, 0, HF), -73); // IARU R.1
     assert.equal(sToDbm(1, 0, HF), -121); // IARU R.1 derived: S1 = -121 dBm
     assert.equal(sToDbm(8, 0, HF), -79); // IARU R.1 derived: S8 = -79 dBm
@@ -412,9 +412,9 @@ describe('levels.parseLevel()', () => {
     assert.equal(parseLevel('-73 dBm', 'carrier'), -73);
     assert.equal(parseLevel('  -73dBm ', 'carrier'), -73);
     assert.equal(parseLevel('\u221273 dBm', 'carrier'), -73); // a typographic minus
-    near(parseLevel('50 uV', 'carrier'), -73.01, 0.005); // REFERENCES.md: 50 uV = -73.01 dBm
+    near(parseLevel('50 uV', 'carrier'), -73.01, 0.005); // docs/references.md: 50 uV = -73.01 dBm
     near(parseLevel('50µV', 'carrier'), -73.01, 0.005);
-    near(parseLevel('7.07 V', 'carrier'), 30, 0.005); // REFERENCES.md: +30 dBm = 7.071 V rms
+    near(parseLevel('7.07 V', 'carrier'), 30, 0.005); // docs/references.md: +30 dBm = 7.071 V rms
     near(parseLevel('1e-3 W', 'carrier'), 0, 1e-12);
     assert.equal(parseLevel('+10 dBW', 'carrier'), 40);
   });

@@ -46,13 +46,13 @@ function pt(role: PointRole, dbm: number, extra: Partial<PointLevel> = {}): Poin
 
 describe('limits presets', () => {
   it('47 CFR 97.307(d): 100 W mean power allows a spur of at most +7 dBm', () => {
-    // REFERENCES.md "Emission limits", 47 CFR 97.307(d): at least 43 dB below the mean power; 100 W -> +7 dBm.
+    // docs/references.md § Emission limits, 47 CFR 97.307(d): at least 43 dB below the mean power; 100 W -> +7 dBm.
     near(spuriousLimitDbm(spurRule('preset:us-97.307d'), W(100)).dbm, 7, 1e-9, '100 W');
     assert.equal(preset('preset:us-97.307d').rules[0].carrierBelowHz, 30e6, 'fundamental below 30 MHz');
   });
 
   it('47 CFR 97.307(e): 60 dB below above 25 W; at most 25 µW, 40 dB below, not below 10 µW at 25 W or less', () => {
-    // REFERENCES.md, 47 CFR 97.307(e): >25 W: 60 dB below the mean power.
+    // docs/references.md, 47 CFR 97.307(e): >25 W: 60 dB below the mean power.
     const hi = spurRule('preset:us-97.307e', 0);
     assert.equal(hi.meanAboveW, 25);
     near(spuriousLimitDbm(hi, W(100)).dbm, W(100) - 60, 1e-9, '100 W');
@@ -80,7 +80,7 @@ describe('limits presets', () => {
   });
 
   it('ITU-R SM.329 category A: 43 + 10 log P or 50 dBc, whichever is less stringent', () => {
-    // REFERENCES.md, ITU-R SM.329 (from a secondary source): 100 W PEP -> 43 + 20 = 63 dB or 50 dBc: 50 dBc,
+    // docs/references.md, ITU-R SM.329 (from a secondary source): 100 W PEP -> 43 + 20 = 63 dB or 50 dBc: 50 dBc,
     // i.e. at most 0 dBm.
     const r = spurRule('preset:itu-sm329-a');
     near(spuriousLimitDbm(r, W(100)).dbm, 0, 1e-9, '100 W PEP');
@@ -93,7 +93,7 @@ describe('limits presets', () => {
   });
 
   it('47 CFR 80.207: the maritime 40 dB carrier figure, optional and labelled as another service', () => {
-    // REFERENCES.md: 47 CFR 80.207 (maritime, not amateur): SSB carrier at least 40 dB below PEP.
+    // docs/references.md: 47 CFR 80.207 (maritime, not amateur): SSB carrier at least 40 dB below PEP.
     const s = preset('preset:us-80.207-maritime');
     assert.deepEqual(s.rules[0], {
       metric: 'carrier',
@@ -107,7 +107,7 @@ describe('limits presets', () => {
   });
 
   it('common practice: 40 dB carrier and 40-50 dB opposite sideband; 60 dB on a careful layout', () => {
-    // REFERENCES.md "Emission limits", common practice (no standard).
+    // docs/references.md § Emission limits, common practice (no standard).
     const c = preset('preset:common-practice');
     assert.equal(c.standing, 'common-practice');
     assert.match(c.name, /common practice/);

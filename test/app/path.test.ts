@@ -41,7 +41,7 @@ function throwsBench(fn: () => unknown, code: string, field: string): BenchError
   return caught;
 }
 
-// REFERENCES.md "Attenuator pads": dB, pi shunt, pi series, T series, T shunt (printed to 5 significant digits)
+// docs/references.md § Attenuator pads: dB, pi shunt, pi series, T series, T shunt (printed to 5 significant digits)
 const PAD_TABLE: [number, number, number, number, number][] = [
   [3, 292.4, 17.615, 8.55, 141.93],
   [6, 150.48, 37.352, 16.614, 66.931],
@@ -52,7 +52,7 @@ const PAD_TABLE: [number, number, number, number, number][] = [
 describe('path.piPad() / tPad()', () => {
   it('matches the computed pad table', () => {
     for (const [db, piShunt, piSeries, tSeries, tShunt] of PAD_TABLE) {
-      // RF handbook attenuator formulas, computed values in REFERENCES.md (5 significant digits)
+      // RF handbook attenuator formulas, computed values in docs/references.md (5 significant digits)
       const pi = piPad(db);
       const t = tPad(db);
       near(pi.shuntOhm, piShunt, piShunt * 6e-5, `${db} dB pi shunt`);
@@ -90,7 +90,7 @@ describe('path.padAttenuationDb()', () => {
   });
 
   it('gives about 20 dB for the rounded table values', () => {
-    // RF handbook attenuator formulas, computed values in REFERENCES.md: 20 dB pi 61.111/247.50, T 40.909/10.101
+    // RF handbook attenuator formulas, computed values in docs/references.md: 20 dB pi 61.111/247.50, T 40.909/10.101
     near(padAttenuationDb('pi', 61.111, 247.5), 20, 0.001);
     near(padAttenuationDb('t', 10.101, 40.909), 20, 0.001);
   });
@@ -130,8 +130,8 @@ describe('path.padAttenuationDb()', () => {
 });
 
 describe('path.gammaFromVswr() / returnLossDb() / mismatchLossDb()', () => {
-  it('matches the computed values in REFERENCES.md "Mismatch"', () => {
-    // Pozar, Microwave Engineering, ch. 2; computed values in REFERENCES.md
+  it('matches the computed values in docs/references.md § Mismatch', () => {
+    // Pozar, Microwave Engineering, ch. 2; computed values in docs/references.md
     near(gammaFromVswr(1.1), 0.0476, 0.00005);
     near(returnLossDb(1.1), 26.44, 0.005);
     near(mismatchLossDb(1.1), 0.0099, 0.00005);
@@ -155,8 +155,8 @@ describe('path.gammaFromVswr() / returnLossDb() / mismatchLossDb()', () => {
 });
 
 describe('path.mismatchLimitsDb()', () => {
-  it('matches the example in REFERENCES.md', () => {
-    // common practice in RF metrology: 20*log10(1 +/- |Gs||GL|); example computed in REFERENCES.md
+  it('matches the example in docs/references.md', () => {
+    // common practice in RF metrology: 20*log10(1 +/- |Gs||GL|); example computed in docs/references.md
     const { plusDb, minusDb } = mismatchLimitsDb(1.5, 1.2);
     near(plusDb, 0.157, 0.0005);
     near(minusDb, -0.159, 0.0005);
@@ -205,7 +205,7 @@ describe('path.analysePath()', () => {
   it('counts mismatch as a U-shaped term with no nominal loss', () => {
     const a = analysePath([{ kind: 'mismatch', sourceVswr: 1.5, loadVswr: 1.2 }]);
     assert.equal(a.lossDb, 0);
-    // U-shaped distribution: u = half-width / sqrt(2), half-width from the REFERENCES.md example (+0.157/-0.159 dB)
+    // U-shaped distribution: u = half-width / sqrt(2), half-width from the docs/references.md example (+0.157/-0.159 dB)
     near(a.uDb, 0.158 / Math.SQRT2, 0.0005);
     near(a.minLossDb, -0.159, 0.0005);
   });

@@ -138,7 +138,7 @@ describe('plan.planReference() and planTable()', () => {
     assert.equal(r.label, 'mean of the two tones');
   });
 
-  it('pep: (sqrt(Pu) + sqrt(Pl))^2, 6.02 dB above two equal tones (REFERENCES.md: PEP = 4 x one tone)', () => {
+  it('pep: (sqrt(Pu) + sqrt(Pl))^2, 6.02 dB above two equal tones (docs/references.md: PEP = 4 x one tone)', () => {
     const r = planReference(points, 'pep').ref!;
     assert.ok(Math.abs(r.dbm - (24 + 6.0206)) < 1e-3);
     // Unequal tones, 24 and 18 dBm: (sqrt(251.19) + sqrt(63.096))^2 mW = 28.5 dBm (computed).
@@ -176,7 +176,7 @@ describe('receiver.defaultCalibrationFor()', () => {
     assert.equal(applyCalibration(defaultCalibrationFor('strength-db'), 0, 7.1e6).dbm, -73);
     const s = iaruR1SUnitCalibration();
     assert.equal(applyCalibration(s, 9, 7.1e6).dbm, -73);
-    assert.equal(applyCalibration(s, 1, 7.1e6).dbm, -121); // REFERENCES.md: S1 = -121 dBm
+    assert.equal(applyCalibration(s, 1, 7.1e6).dbm, -121); // docs/references.md: S1 = -121 dBm
     assert.equal(applyCalibration(s, 8, 7.1e6).dbm, -79); // S8 = -79 dBm
     assert.equal(applyCalibration(s, 9, 145e6).dbm, -93);
     assert.equal(applyCalibration(defaultCalibrationFor('dbm'), -42.5, 7.1e6).dbm, -42.5);

@@ -58,7 +58,7 @@ describe('Fft', () => {
     }
     fft.forward();
     const y = fft.output();
-    assert.ok(Math.abs(Math.hypot(y[74], y[75]) - 512) < 1e-3); // REFERENCES.md, DFT windows: test vector
+    assert.ok(Math.abs(Math.hypot(y[74], y[75]) - 512) < 1e-3); // docs/references.md § DFT windows: test vector
     fft.dispose();
   });
 

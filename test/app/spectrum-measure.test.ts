@@ -63,7 +63,7 @@ describe('measureSpectrum() on synthetic DSB from 8-bit samples', () => {
       // The noise-based uncertainty accounts for the error.
       assert.ok(Math.abs((m.suppression?.db as number) - sup) <= 3 * (m.suppression?.uDb as number) + 0.05);
       near(m.imd3?.db, -40, 0.5, 'IMD3 re one tone');
-      // Two equal tones: PEP = 4 x one tone, so IMD3 re PEP = re tone - 6.02 dB (REFERENCES.md, Modulation and power).
+      // Two equal tones: PEP = 4 x one tone, so IMD3 re PEP = re tone - 6.02 dB (docs/references.md § Modulation and power).
       near(m.imd3?.pepDb, -46.02, 0.5, 'IMD3 re PEP');
       near(m.imd5?.db, -60, 0.5, 'IMD5');
       near(m.carrierHz, 150_000, 0.01, 'carrier position');

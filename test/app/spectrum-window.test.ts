@@ -23,7 +23,7 @@ const maxAbsDiff = (a: ArrayLike<number>, b: ArrayLike<number>) => {
 describe('Window coefficients', () => {
   for (const n of [1024, 1000]) {
     it(`match scipy.signal.windows (sym=False) for N = ${n}`, () => {
-      // Source: scipy.signal.windows from Debian's python3-scipy, the reference library named in REFERENCES.md.
+      // Source: scipy.signal.windows from Debian's python3-scipy, the reference library named in docs/references.md.
       assert.ok(maxAbsDiff(Window.rectangular(n).values, scipyWindow('w.boxcar(n, sym=False)', n)) < 1e-7);
       assert.ok(maxAbsDiff(Window.hann(n).values, scipyWindow('w.hann(n, sym=False)', n)) < 1e-7);
       assert.ok(
@@ -59,16 +59,16 @@ describe('Window figures of merit', () => {
 
   it('4-term Blackman-Harris: coherent gain 0.35875, ENBW 2.0044 bins, scalloping 0.826 dB', () => {
     const w = Window.blackmanHarris4(n);
-    assert.ok(Math.abs(w.coherentGain - 0.35875) < 1e-9); // Harris 1978, Table 1 (0.36) / REFERENCES.md computed
-    assert.ok(Math.abs(w.enbwBins - 2.0044) < 5e-5); // Harris 1978, Table 1 (2.00) / REFERENCES.md computed
-    assert.ok(Math.abs(w.scallopLossDb - 0.826) < 0.001); // REFERENCES.md computed (Harris 1978: 0.83)
+    assert.ok(Math.abs(w.coherentGain - 0.35875) < 1e-9); // Harris 1978, Table 1 (0.36) / docs/references.md computed
+    assert.ok(Math.abs(w.enbwBins - 2.0044) < 5e-5); // Harris 1978, Table 1 (2.00) / docs/references.md computed
+    assert.ok(Math.abs(w.scallopLossDb - 0.826) < 0.001); // docs/references.md computed (Harris 1978: 0.83)
   });
 
   it('flat-top (scipy coefficients): coherent gain 0.21558, ENBW 3.7702 bins, scalloping 0.0098 dB', () => {
     const w = Window.flatTop(n);
-    assert.ok(Math.abs(w.coherentGain - 0.21558) < 5e-6); // REFERENCES.md computed from scipy's coefficients
-    assert.ok(Math.abs(w.enbwBins - 3.7702) < 5e-5); // REFERENCES.md computed
-    assert.ok(Math.abs(w.scallopLossDb - 0.0098) < 0.0003); // REFERENCES.md computed
+    assert.ok(Math.abs(w.coherentGain - 0.21558) < 5e-6); // docs/references.md computed from scipy's coefficients
+    assert.ok(Math.abs(w.enbwBins - 3.7702) < 5e-5); // docs/references.md computed
+    assert.ok(Math.abs(w.scallopLossDb - 0.0098) < 0.0003); // docs/references.md computed
   });
 
   it('HFT95: ENBW 3.8112 bins and amplitude error at most 0.0044 dB across the bin', () => {

@@ -7,7 +7,7 @@ import { BenchError, check } from '../../../app/errors';
 export const GREETING_MAGIC = 'RTL0';
 export const GREETING_BYTES = 12;
 
-/** Command codes (REFERENCES.md, Protocols). */
+/** Command codes (docs/references.md § SDR TCP stream). */
 export const IqCommand = {
   frequency: 0x01,
   sampleRate: 0x02,
