@@ -2,6 +2,7 @@
 // unit, receiver, path, power) in one form. The set-up is checked by the service, which refuses unsafe ones.
 import { SETUP_CAUTION } from '../../app/caution';
 import type { ServiceClient, Session, SessionSummary, Tree } from '../../app/api';
+import { errorText } from '../../app/errors';
 import { formatPath, parsePathSpec } from '../../app/path';
 import type { StoredReceiver } from '../../app/receiver';
 import { ApiError } from '../api';
@@ -258,17 +259,14 @@ function newSessionForm(tree: Tree, deps: SessionsDialogDeps, close: () => void)
         const pepW = num(pep, 'Transmitter PEP');
         if (!(pepW > 0)) throw new ApiError('EINVAL', 'Transmitter PEP: must be above 0 W');
         const elements = parsePathSpec(path.value);
-        const t = await api.call('tree', {});
-        let d = t.find((x) => x.name === designs.value.trim());
-        if (!d) d = { ...(await api.call('createDesign', { name: designs.value })), revisions: [] };
-        let r = d.revisions.find((x) => x.name === revision.value.trim());
-        if (!r)
-          r = { ...(await api.call('createRevision', { designId: d.id, name: revision.value })), units: [] };
-        let u = r.units.find((x) => x.serial === serial.value.trim());
-        if (!u) u = await api.call('createUnit', { revisionId: r.id, serial: serial.value });
         const fromProfile = profile !== null && profile.source === source.value.trim();
-        const s = await api.call('createSession', {
-          unitId: u.id,
+        // One call: the service checks the whole set-up (the receiver safety check among it) before it
+        // finds or creates the design, revision and unit, so a refused set-up leaves nothing behind.
+        const s = await api.call('startSession', {
+          design: designs.value,
+          revision: revision.value,
+          serial: serial.value,
+          open: true,
           receiver: {
             name: fromProfile
               ? profile!.name
@@ -296,11 +294,10 @@ function newSessionForm(tree: Tree, deps: SessionsDialogDeps, close: () => void)
               max: num(t.max, `Trimmer ${t.key} to`),
             })),
         });
-        await api.call('openSession', { sessionId: s.id });
         close();
         deps.onOpened(s);
       } catch (e) {
-        err.textContent = e instanceof Error ? e.message : String(e);
+        err.textContent = errorText(e);
       } finally {
         start.disabled = false;
       }

@@ -5,6 +5,7 @@ import assert from 'node:assert/strict';
 import type { Browser, Page } from 'playwright-core';
 import Database from 'better-sqlite3';
 import { join } from 'node:path';
+import { RF_CAUTION } from '../../app/caution';
 import { startWeb, type Served } from '../../main/shells/cli/serve';
 import { launch, shot } from '../helpers/browser';
 import { tempDir } from '../helpers/tmp';
@@ -47,7 +48,21 @@ describe('web mode, end to end', () => {
     await page.fill('input[name=pep]', '100');
     await page.click('#start-session');
     await page.locator('#session-error').filter({ hasText: 'refused' }).waitFor();
-    assert.match(await page.locator('#session-error').innerText(), /rated maximum/);
+    const refusal = await page.locator('#session-error').innerText();
+    assert.match(refusal, /rated maximum/);
+    // The refusal carries the RF caution (app/caution.ts), and the refused set-up wrote nothing: the web
+    // API's tree is still empty (no design, revision or unit was left behind).
+    assert.ok(refusal.includes(RF_CAUTION), refusal);
+    const tree = await page.evaluate(async () => {
+      const res = await fetch('/api/call/tree', {
+        method: 'POST',
+        headers: { 'Content-Type': 'application/json' },
+        body: '{}',
+      });
+      return (await res.json()) as { ok: boolean; value: unknown[] };
+    });
+    assert.equal(tree.ok, true);
+    assert.deepEqual(tree.value, []);
     await page.screenshot({ path: shot('e2e-02-unsafe-refused') });
     await page.fill('input[name=path]', 'coupler:30,pad:20');
     await page.fill('input[name=pep]', '1');
