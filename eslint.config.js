@@ -1,22 +1,45 @@
-// Lint rules: TypeScript recommended, plus the layering rule of DESIGN.md:
-// app/ is runtime-free and may import nothing from main/ or renderer/, nor Node built-ins.
+// Lint rules: TypeScript recommended, plus the layering of docs/design.md: app/ is runtime-free and may
+// import nothing from main/ or renderer/, nor any Node built-in; renderer/ imports only app/; inside main/
+// each floor imports only from the floors below it.
 import js from '@eslint/js';
 import tseslint from 'typescript-eslint';
+import { builtinModules } from 'node:module';
 
-const nodeBuiltins = [
-  'fs',
-  'path',
-  'os',
-  'child_process',
-  'net',
-  'http',
-  'crypto',
-  'worker_threads',
-  'stream',
-  'url',
-  'util',
-  'events',
-];
+// Every Node built-in, from Node itself, so none can slip into app/.
+const nodeBuiltins = builtinModules.filter((m) => !m.startsWith('_'));
+
+// main/'s floors, bottom to top: each may import only from the floors below it (and app/). paths.ts at the
+// root of main/ is the ground floor every floor may use.
+const FLOORS = ['sim', 'sources', 'live', 'store', 'sheet', 'service', 'shells'];
+const HOUSE = 'see docs/design.md § The house';
+
+/** The rule for one floor: no import of a floor above it, however many folders up the path climbs. */
+function floorRule(floor) {
+  const above = FLOORS.slice(FLOORS.indexOf(floor) + 1);
+  if (!above.length) return [];
+  return [
+    {
+      files: [`main/${floor}/**/*.ts`],
+      rules: {
+        'no-restricted-imports': [
+          'error',
+          {
+            patterns: [
+              {
+                regex: `^(\\.\\./)+(${above.join('|')})(/|$)`,
+                message: `main/${floor}/ may import only from the floors below it (${FLOORS.slice(0, FLOORS.indexOf(floor)).join(', ') || 'none'}), app/ and main/paths.ts: ${HOUSE}.`,
+              },
+              {
+                regex: '^(\\.\\./)+renderer(/|$)',
+                message: `main/ talks to renderer/ only through the service contract: ${HOUSE}.`,
+              },
+            ],
+          },
+        ],
+      },
+    },
+  ];
+}
 
 export default tseslint.config(
   { ignores: ['node_modules/**', 'dist/**', 'build/**', 'test-artifacts/**'] },
@@ -36,15 +59,15 @@ export default tseslint.config(
           // Exact names: a pattern "path" would also catch our own "./path" module.
           paths: nodeBuiltins
             .flatMap((m) => [m, `node:${m}`])
-            .map((name) => ({ name, message: 'app/ is runtime-free: no Node built-ins.' })),
+            .map((name) => ({ name, message: `app/ is runtime-free: no Node built-ins (${HOUSE}).` })),
           patterns: [
             {
               group: ['**/main/**', '../main', '../../main', '**/renderer/**', '../renderer'],
-              message: 'app/ must not import from main/ or renderer/ (see DESIGN.md).',
+              message: `app/ must not import from main/ or renderer/: ${HOUSE}.`,
             },
             {
               group: ['node:*'],
-              message: 'app/ is runtime-free: no Node built-ins.',
+              message: `app/ is runtime-free: no Node built-ins (${HOUSE}).`,
             },
           ],
         },
@@ -60,13 +83,14 @@ export default tseslint.config(
           patterns: [
             {
               group: ['**/main/**', '../main', '../../main'],
-              message: 'renderer/ talks to main/ only through the API client.',
+              message: `renderer/ talks to main/ only through the API client: ${HOUSE}.`,
             },
           ],
         },
       ],
     },
   },
+  ...FLOORS.flatMap(floorRule),
   {
     files: ['**/*.js', '**/*.mjs', '**/*.cjs'],
     languageOptions: {

@@ -107,7 +107,7 @@ describe('web mode with real receivers, end to end', () => {
     assert.equal(await page.locator('#plan-progress').getAttribute('value'), '6');
     await page.locator('#plan-card').scrollIntoViewIfNeeded();
     await page.locator('#plan-card').screenshot({ path: shot('e2e-rx-01-plan-table') });
-    // The same run against PEP: each figure 6.02 dB lower (REFERENCES.md: PEP = 4 x one tone's power).
+    // The same run against PEP: each figure 6.02 dB lower (docs/references.md: PEP = 4 x one tone's power).
     const tone = await rel('carrier');
     await page.selectOption('#plan-reference', 'pep');
     const pep = await rel('carrier');

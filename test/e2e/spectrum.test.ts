@@ -94,7 +94,7 @@ describe('live spectrum, end to end', () => {
         'upper',
       ]);
       const upper = kept.find((r) => r.role === 'upper')!;
-      // 30 dBm PEP DSB with one tone: each sideband is PEP - 6.02 dB (REFERENCES.md, two equal tones).
+      // 30 dBm PEP DSB with one tone: each sideband is PEP - 6.02 dB (docs/references.md, two equal tones).
       assert.ok(Math.abs(upper.dbm_dut - (30 - 6.02)) < 1, `upper ${upper.dbm_dut} dBm`);
     } finally {
       db.close();

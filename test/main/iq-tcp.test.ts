@@ -70,7 +70,7 @@ describe('IqTcpClient against the IQ simulator server', () => {
     await c.setSampleRate(240_000);
     for (let i = 0; i < 100 && sim.state.commands.length < before + 6; i++)
       await new Promise((r) => setTimeout(r, 10));
-    // rtl_tcp command codes (REFERENCES.md, Protocols): 0x01 frequency, 0x03 gain mode, 0x04 gain in tenths of dB,
+    // rtl_tcp command codes (docs/references.md § SDR TCP stream): 0x01 frequency, 0x03 gain mode, 0x04 gain in tenths of dB,
     // 0x05 ppm, 0x08 digital AGC, 0x02 sample rate.
     assert.deepEqual(sim.state.commands.slice(before), [
       [0x01, 7_095_000],

@@ -92,7 +92,7 @@ describe('plans on the simulated bench', () => {
         );
       }
       const row = (role: string) => v.rows.find((r) => r.role === role)!;
-      // One DSB sideband of 30 dBm PEP is 23.98 dBm (REFERENCES.md: PEP = 4 x one tone's power).
+      // One DSB sideband of 30 dBm PEP is 23.98 dBm (docs/references.md: PEP = 4 x one tone's power).
       assert.ok(Math.abs(row('upper').dbmDut! - 23.98) < 1.5, `upper ${row('upper').dbmDut}`);
       // The simulated board's third-order products lie 32 dB below one tone (main/sim/transmitter.ts).
       assert.ok(Math.abs(row('imd3u').relDb! + 32) < 2, `IMD3 ${row('imd3u').relDb}`);
@@ -384,7 +384,7 @@ describe('plans on real links', () => {
       assert.equal(v.state, 'done', v.message);
       assert.ok(dev.log.includes('FRQ 7103000'), 'the device was retuned to IMD3 upper');
       const row = (role: string) => v.rows.find((r) => r.role === role)!;
-      // One DSB sideband of 30 dBm PEP: 23.98 dBm (REFERENCES.md: PEP = 4 x one tone), through R.1 and the path.
+      // One DSB sideband of 30 dBm PEP: 23.98 dBm (docs/references.md: PEP = 4 x one tone), through R.1 and the path.
       assert.ok(Math.abs(row('upper').dbmDut! - 23.98) < 1.5, `upper ${row('upper').dbmDut}`);
       // The simulated board's IMD3 is 32 dB below one tone (main/sim/transmitter.ts).
       assert.ok(Math.abs(row('imd3l').relDb! + 32) < 2, `IMD3 ${row('imd3l').relDb}`);

@@ -45,7 +45,7 @@ describe('net source parseRigNetSpec()', () => {
       [s.host, s.port, s.extended, s.level, s.mode, s.passbandHz, s.timeoutMs],
       ['::1', 4600, false, 'RAWSTR', 'CW', 500, 250],
     );
-    // REFERENCES.md: the daemon's default port is 4532.
+    // docs/references.md: the daemon's default port is 4532.
     assert.equal(parseRigNetSpec('net:localhost').port, 4532);
     assert.throws(() => parseRigNetSpec('net:127.0.0.1:99999'), /source port: port must be 1\.\.65535/);
     assert.throws(

@@ -74,7 +74,7 @@ describe('Service', () => {
       // R.1: dBm = -73 + strength (dB re S9) below 30 MHz; the path adds 30 + 20 dB back.
       assert.equal(r.dbmRx, -73 + r.raw);
       assert.equal(r.dbmDut, r.dbmRx + 50);
-      // One DSB sideband of 30 dBm PEP is 23.98 dBm at the DUT (REFERENCES.md, PEP = 4 x one tone).
+      // One DSB sideband of 30 dBm PEP is 23.98 dBm at the DUT (docs/references.md, PEP = 4 x one tone).
       assert.ok(Math.abs(r.dbmDut - 23.98) <= 1.0, `upper tone ${r.dbmDut}`);
       assert.equal(r.role, 'upper');
       assert.ok(r.kept && r.settled);

@@ -65,7 +65,7 @@ describe('nullbench sheet', () => {
       '7.100 MHz',
     ])
       assert.ok(text.includes(s), `sheet shows "${s}"`);
-    // Figures recomputed from the stored readings. PEP of two lines: (√P_upper + √P_lower)² (REFERENCES.md,
+    // Figures recomputed from the stored readings. PEP of two lines: (√P_upper + √P_lower)² (docs/references.md,
     // "Modulation and power": DSB with one tone, PEP = 4 x one tone's power).
     const k = lastKept(demo.file, 'HD40-0101');
     const pep = 10 * Math.log10((Math.sqrt(mw(k.upper)) + Math.sqrt(mw(k.lower))) ** 2);
@@ -89,7 +89,7 @@ describe('nullbench sheet', () => {
       text.includes(`${f1(mean - k.h2)} dB below the mean power`),
       '2nd harmonic below the mean power',
     );
-    // 47 CFR 97.307(d): 43 dB below the mean power (REFERENCES.md "Emission limits").
+    // 47 CFR 97.307(d): 43 dB below the mean power (docs/references.md § Emission limits).
     assert.ok(
       text.includes(`≤ ${f1(mean - 43)} dBm`),
       `the 97.307(d) limit for this mean power, ${f1(mean - 43)} dBm`,

@@ -9,7 +9,7 @@ import { BenchError } from '../../app/errors';
 describe('SimTransmitter', () => {
   it('puts each sideband of a one-tone DSB signal 6.02 dB below PEP', () => {
     const tx = new SimTransmitter({ pepDbm: 30, mode: 'dsb' });
-    // REFERENCES.md "Modulation and power": DSB-SC with one tone, PEP = 4 x one tone's power.
+    // docs/references.md § Modulation and power: DSB-SC with one tone, PEP = 4 x one tone's power.
     assert.ok(Math.abs(tx.sidebandDbm() - (30 - 6.0206)) < 1e-3);
   });
 
@@ -34,7 +34,7 @@ describe('SimTransmitter', () => {
 describe('SimReceiver', () => {
   it('has a noise floor of kTB + NF', () => {
     const rx = new SimReceiver({ bandwidthHz: 500, noiseFigureDb: 12 });
-    // REFERENCES.md "Thermal noise": kTB at 500 Hz = -146.99 dBm (k from SI 2019), plus the noise figure.
+    // docs/references.md § Thermal noise: kTB at 500 Hz = -146.99 dBm (k from SI 2019), plus the noise figure.
     assert.ok(Math.abs(rx.noiseFloorDbm() - (-146.99 + 12)) < 0.01);
   });
 

@@ -57,7 +57,7 @@ describe('Service spectrumStart/spectrumKeep (iqsim)', () => {
       assert.ok(kept.every((r) => r.kept && r.sessionId === ctx.session.id));
       const upper = kept.find((r) => r.role === 'upper')!;
       // Through the SDR's full-scale figure and the declared 50 dB path back to the transmitter: one
-      // sideband of a 30 dBm PEP DSB signal is PEP - 6.02 dB (two equal tones, REFERENCES.md).
+      // sideband of a 30 dBm PEP DSB signal is PEP - 6.02 dB (two equal tones, docs/references.md).
       assert.ok(Math.abs(upper.dbmDut - tx.sidebandDbm()) < 0.5, `upper ${upper.dbmDut} dBm`);
       assert.ok(Math.abs(upper.freqHz - (7.1e6 + 1000)) < 20);
       const stored = await service.invoke('readings', { sessionId: ctx.session.id, keptOnly: true });
