@@ -2,7 +2,7 @@
 // real-looking history at once: one design, two revisions, a few units, a session with sweeps on each.
 import type { PointRole, TrimDef } from '../../app/api';
 import { BenchError } from '../../app/errors';
-import { Service } from '.';
+import type { Invoke, ServiceOptions } from './handlers';
 import { createSource } from '../sources';
 import type { Store } from '../store/store';
 
@@ -98,7 +98,10 @@ export interface DemoSummary {
 }
 
 /** Seeds the demo scenario into the store; refuses if it is already there (nothing is changed then). */
-export async function seedDemo(store: Store): Promise<DemoSummary> {
+/** Makes the service the demo runs on; the Service passes its own constructor (no import back to it). */
+export type DemoServiceFactory = (opts: ServiceOptions) => { invoke: Invoke; close(): Promise<void> };
+
+export async function seedDemo(store: Store, makeService: DemoServiceFactory): Promise<DemoSummary> {
   if (store.tree().some((d) => d.name === DEMO_DESIGN))
     throw new BenchError('ECONFLICT', `the demo design "${DEMO_DESIGN}" is already in this database`, '--db');
   // Invented data needs no fsync per stored reading (FULL durability is for real measurements): seeding
@@ -108,7 +111,7 @@ export async function seedDemo(store: Store): Promise<DemoSummary> {
     let t0 = 0;
     let leak = -60;
     // Demo sessions run on a virtual clock so seeding takes seconds, and are dated on the day of the session.
-    const service = new Service({
+    const service = makeService({
       store,
       mode: 'cli',
       createSource: (spec) => createSource(`${spec},fast,t0=${t0},leak=${leak}`),

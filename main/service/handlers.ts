@@ -1,7 +1,8 @@
 // Runs in Node. What every call group of the service shares: the handler type of a group's calls, and the
 // context the Service hands each group (the store, how sources are made, the open live bench, events).
 // Types only, so the group files import this and never the Service itself.
-import type { CallName, CallResults, EventPayloads, ParsedArgs, Status } from '../../app/api';
+import type { z } from 'zod';
+import type { CALLS, CallName, CallResults, EventPayloads, ParsedArgs, Status } from '../../app/api';
 import type { LiveBench, LiveOptions } from '../live/live';
 import type { PdfRenderer } from '../sheet/pdf';
 import type { LevelSource, SourceEnv } from '../sources/types';
@@ -23,3 +24,20 @@ export interface ServiceContext {
   live: () => LiveBench | null;
   emit: <E extends keyof EventPayloads>(event: E, payload: EventPayloads[E]) => void;
 }
+
+/** How a Service is made: the shells, the CLI and the tests pass these. */
+export interface ServiceOptions {
+  store: Store;
+  mode: Status['mode'];
+  live?: LiveOptions;
+  /** Overrides how sources are made (tests inject fakes). */
+  createSource?: (spec: string, env?: SourceEnv) => LevelSource;
+  /** Prints a test sheet to PDF: headless Chromium by default; the desktop shell passes its own. */
+  pdf?: PdfRenderer;
+}
+
+/** In-process typed call: throws the BenchError a failed call carries. */
+export type Invoke = <K extends CallName>(
+  name: K,
+  args: z.input<(typeof CALLS)[K]>,
+) => Promise<CallResults[K]>;

@@ -3,11 +3,9 @@
 // emits the events. It holds no call logic of its own. Both shells (desktop IPC and the local web server)
 // and the CLI call into this.
 import { EventEmitter } from 'node:events';
-import type { z } from 'zod';
 import {
   CALLS,
   isCallName,
-  type CallName,
   type CallResult,
   type CallResults,
   type EventPayloads,
@@ -15,12 +13,10 @@ import {
 } from '../../app/api';
 import { BenchError, toFailure } from '../../app/errors';
 import { benchErrorFromZod } from '../../app/zodissue';
-import type { LiveOptions } from '../live/live';
-import { chromiumPdf, type PdfRenderer } from '../sheet/pdf';
-import { createSource } from '../sources';
-import type { LevelSource, SourceEnv } from '../sources/types';
+import { chromiumPdf } from '../sheet/pdf';
 import type { Store } from '../store/store';
-import type { Handlers, ServiceContext } from './handlers';
+import { createSource } from '../sources';
+import type { Handlers, Invoke, ServiceContext, ServiceOptions } from './handlers';
 import { NullfitCalls } from './nullfit';
 import { PlanCalls } from './plans';
 import { ReceiverCalls } from './receivers';
@@ -29,23 +25,7 @@ import { SessionCalls } from './session';
 import { SpectrumCalls } from './spectrum';
 
 export { VERSION } from './session';
-export type { Handlers } from './handlers';
-
-export interface ServiceOptions {
-  store: Store;
-  mode: Status['mode'];
-  live?: LiveOptions;
-  /** Overrides how sources are made (tests inject fakes). */
-  createSource?: (spec: string, env?: SourceEnv) => LevelSource;
-  /** Prints a test sheet to PDF: headless Chromium by default; the desktop shell passes its own. */
-  pdf?: PdfRenderer;
-}
-
-/** In-process typed call: throws the BenchError a failed call carries. */
-export type Invoke = <K extends CallName>(
-  name: K,
-  args: z.input<(typeof CALLS)[K]>,
-) => Promise<CallResults[K]>;
+export type { Handlers, Invoke, ServiceOptions } from './handlers';
 
 export class Service {
   readonly store: Store;
@@ -76,6 +56,7 @@ export class Service {
       receivers: this.receivers,
       tuneRefusal: () =>
         this.plans.active ? 'a plan is stepping the receiver: cancel it before tuning by hand' : null,
+      makeService: (o) => new Service(o),
       beforeClose: async () => {
         await this.plans.stopAll();
         await this.spectrum.stream.stop();

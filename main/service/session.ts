@@ -10,7 +10,7 @@ import { assertReceiverSafe, validatePath } from '../../app/path';
 import { LiveBench } from '../live/live';
 import { findDriver } from '../sources';
 import { sessionSeries } from '../store/series';
-import { seedDemo } from './demo';
+import { seedDemo, type DemoServiceFactory } from './demo';
 import type { GroupHandlers, ServiceContext } from './handlers';
 import type { ReceiverCalls } from './receivers';
 import type { z } from 'zod';
@@ -23,6 +23,8 @@ export interface SessionHooks {
   receivers: ReceiverCalls;
   /** Why the receiver may not be tuned by hand now (a plan steps it), or null. */
   tuneRefusal: () => string | null;
+  /** Builds the scratch service the demo runs its simulated sessions on (a virtual clock of its own). */
+  makeService: DemoServiceFactory;
   /** Stopped before a session closes: plans, the spectrum stream. */
   beforeClose: () => Promise<void>;
 }
@@ -75,7 +77,7 @@ export class SessionCalls {
       sweep: (a) => this.sweep(a),
       readings: (a) => store.readings(a.sessionId, { keptOnly: a.keptOnly, limit: a.limit }),
       series: (a) => sessionSeries(store, a),
-      loadDemo: () => seedDemo(store),
+      loadDemo: () => seedDemo(store, this.hooks.makeService),
     };
   }
 

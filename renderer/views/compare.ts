@@ -26,7 +26,7 @@ import {
 } from '../../app/analysis';
 import { clear, h } from '../dom';
 import { when } from '../format';
-import { go, type NavDeps, type RecordsView } from './nav';
+import { go, type NavDeps, type RecordsView } from '../route';
 import { f1 } from './recordsui';
 
 Chart.register(

@@ -6,7 +6,7 @@ import { EMISSIONS, EMISSION_LABELS, type Emission } from '../../app/analysis';
 import { ROLE_LABELS } from '../../app/api';
 import { clear, h } from '../dom';
 import { when } from '../format';
-import { go, type NavDeps, type RecordsView } from './nav';
+import { go, type NavDeps, type RecordsView } from '../route';
 import {
   badge,
   download,

@@ -1,32 +1,12 @@
 // Runs in the renderer. The top-level navigation: the bench (default) and the record-keeping views
 // (designs and units, revision comparison, test sheets). The address keeps the place (#/designs,
 // #/compare?design=ID, #/sheet?unit=ID), so the browser's back button and a reload land where you were.
-import type { ServiceClient, Session } from '../../app/api';
 import { $, clear, h } from '../dom';
 import { CompareView } from './compare';
 import { DesignsView } from './designs';
 import { SheetView } from './sheetview';
+import { go, parseRoute, type NavDeps, type RecordsView, type Route } from '../route';
 
-export type Notify = (level: 'info' | 'warn' | 'error', msg: string) => void;
-
-export interface NavDeps {
-  api: ServiceClient;
-  notify: Notify;
-  /** Opens a stored session on the bench (the bench view takes over). */
-  openSession(session: Session): void;
-  /** Shows the sessions dialog (when the bench is shown with no session open). */
-  showSessions(): void;
-}
-
-/** Where the records views send the user: a view and its parameters. */
-export interface Route {
-  view: 'bench' | 'designs' | 'compare' | 'sheet';
-  params: Record<string, string>;
-}
-
-export interface RecordsView {
-  show(params: Record<string, string>): Promise<void>;
-}
 
 const LABELS: [Route['view'], string][] = [
   ['bench', 'Bench'],
@@ -34,24 +14,6 @@ const LABELS: [Route['view'], string][] = [
   ['compare', 'Compare revisions'],
   ['sheet', 'Test sheets'],
 ];
-
-export function parseRoute(hash: string): Route {
-  const m = /^#\/(designs|compare|sheet|bench)(?:\?(.*))?$/.exec(hash);
-  if (!m) return { view: 'bench', params: {} };
-  return { view: m[1] as Route['view'], params: Object.fromEntries(new URLSearchParams(m[2] ?? '')) };
-}
-
-export function routeHash(view: Route['view'], params: Record<string, string> = {}): string {
-  const q = new URLSearchParams(params).toString();
-  return `#/${view}${q ? `?${q}` : ''}`;
-}
-
-/** Goes to a view (through the address, so back and reload work). */
-export function go(view: Route['view'], params: Record<string, string> = {}): void {
-  const next = routeHash(view, params);
-  if (location.hash === next) window.dispatchEvent(new HashChangeEvent('hashchange'));
-  else location.hash = next;
-}
 
 export function mountNav(deps: NavDeps): void {
   const bench = $('#app');

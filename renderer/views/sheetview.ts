@@ -6,7 +6,7 @@ import { REFERENCE_LABELS, SUPPRESSION_REFERENCES, type SuppressionReference } f
 import { STANDING_LABELS, VERIFY_CAUTION, ruleText, type LimitRule } from '../../app/limits';
 import { clear, h } from '../dom';
 import { when } from '../format';
-import { go, type NavDeps, type RecordsView } from './nav';
+import { go, type NavDeps, type RecordsView } from '../route';
 import { base64Bytes, download, field } from './recordsui';
 
 const METRIC_CHOICES: { value: string; label: string }[] = [

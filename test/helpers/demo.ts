@@ -2,7 +2,7 @@
 // of it for each test that changes it.
 import { copyFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { seedDemo } from '../../main/service/demo';
+import { Service } from '../../main/service';
 import { Store } from '../../main/store/store';
 import { tempDir } from './tmp';
 
@@ -13,7 +13,7 @@ async function seeded(): Promise<string> {
     const t = tempDir('nullbench-demo-');
     const file = join(t.dir, 'demo.db');
     const store = new Store(file);
-    await seedDemo(store);
+    await new Service({ store, mode: 'cli' }).invoke('loadDemo', {});
     store.close(); // closing checkpoints the WAL into the main file, so a plain copy is whole
     template = { file, cleanup: t.cleanup };
     process.once('exit', () => template?.cleanup());

@@ -1,5 +1,5 @@
 // Runs in Node. `nullbench demo`: seed the invented demo scenario into a database.
-import { seedDemo } from '../../service/demo';
+import { Service } from '../../service';
 import { defaultDbPath } from '../../paths';
 import { Store } from '../../store/store';
 import { parseOptions, reportError, type Command } from './command';
@@ -25,7 +25,7 @@ Options:
       }
       const store = new Store(values.db ?? defaultDbPath());
       try {
-        const s = await seedDemo(store);
+        const s = await new Service({ store, mode: 'cli' }).invoke('loadDemo', {});
         if (values.json) io.out(JSON.stringify({ db: store.file, ...s }) + '\n');
         else
           io.out(
