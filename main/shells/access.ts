@@ -3,8 +3,8 @@
 // A fast hash is right here: the token is random, not a password a person chose, so no guessing list exists.
 import { createHash, randomBytes, timingSafeEqual } from 'node:crypto';
 import type { IncomingMessage } from 'node:http';
-import { BenchError } from '../../app/errors';
-import type { Db } from '../store/db';
+import { AccessTokenRepo, type TokenInfo } from '../store/access';
+import type { Store } from '../store/store';
 
 /** Prefix of every token, so a user (or a secret scanner) can tell what the string is. */
 export const TOKEN_PREFIX = 'nbt_';
@@ -21,61 +21,36 @@ function sha256(text: string): Buffer {
   return createHash('sha256').update(text, 'utf8').digest();
 }
 
-export interface TokenInfo {
-  id: number;
-  label: string;
-  createdAt: string;
-  lastUsedAt: string | null;
-}
+export type { TokenInfo } from '../store/access';
 
-/** The tokens table (migration 004): hashes only; the token itself exists in clear only when issued. */
+/** The web mode's access token: issued, shown once, checked by hash; the rows live in AccessTokenRepo. */
 export class AccessTokens {
-  constructor(private readonly db: Db) {
-    const t = db
-      .prepare("SELECT name FROM sqlite_master WHERE type = 'table' AND name = 'access_tokens'")
-      .get();
-    if (!t)
-      throw new BenchError('ENAVAIL', 'this database has no access_tokens table (schema 4)', 'database');
+  private readonly repo: AccessTokenRepo;
+
+  constructor(store: Store) {
+    this.repo = new AccessTokenRepo(store);
   }
 
   /** Revokes every active token and issues a new one; returns its text, the only time it is seen. */
   issue(label = 'web mode'): string {
     const token = TOKEN_PREFIX + randomBytes(32).toString('base64url');
-    const now = new Date().toISOString();
-    this.db.transaction(() => {
-      this.db.prepare('UPDATE access_tokens SET revoked_at = ? WHERE revoked_at IS NULL').run(now);
-      this.db
-        .prepare('INSERT INTO access_tokens (hash, label, created_at) VALUES (?, ?, ?)')
-        .run(sha256(token).toString('hex'), label, now);
-    })();
+    this.repo.replace(sha256(token).toString('hex'), label, new Date().toISOString());
     return token;
   }
 
   /** The active token's record (never its text), or null when none has been issued. */
   active(): TokenInfo | null {
-    const r = this.db
-      .prepare(
-        `SELECT id, label, created_at AS createdAt, last_used_at AS lastUsedAt FROM access_tokens
-         WHERE revoked_at IS NULL ORDER BY id DESC LIMIT 1`,
-      )
-      .get() as TokenInfo | undefined;
-    return r ?? null;
+    return this.repo.active();
   }
 
   /** True when `token` is the active token. Compares hashes in constant time. */
   verify(token: unknown): boolean {
     if (typeof token !== 'string' || !TOKEN_TEXT.test(token)) return false;
     const given = sha256(token);
-    const rows = this.db.prepare('SELECT id, hash FROM access_tokens WHERE revoked_at IS NULL').all() as {
-      id: number;
-      hash: string;
-    }[];
-    for (const r of rows) {
+    for (const r of this.repo.activeHashes()) {
       const stored = Buffer.from(r.hash, 'hex');
       if (stored.length === given.length && timingSafeEqual(stored, given)) {
-        this.db
-          .prepare('UPDATE access_tokens SET last_used_at = ? WHERE id = ?')
-          .run(new Date().toISOString(), r.id);
+        this.repo.markUsed(r.id, new Date().toISOString());
         return true;
       }
     }
@@ -83,9 +58,7 @@ export class AccessTokens {
   }
 
   revokeAll(): number {
-    return this.db
-      .prepare('UPDATE access_tokens SET revoked_at = ? WHERE revoked_at IS NULL')
-      .run(new Date().toISOString()).changes;
+    return this.repo.revokeAll(new Date().toISOString());
   }
 }
 

@@ -46,7 +46,7 @@ async function rig(withAccess: boolean): Promise<Rig> {
   const store = new Store(join(tmp.dir, 'web.db'));
   const service = new Service({ store, mode: 'web' });
   const now = { ms: Date.now() };
-  const access = withAccess ? new WebAccess(new AccessTokens(store.db), () => now.ms) : null;
+  const access = withAccess ? new WebAccess(new AccessTokens(store), () => now.ms) : null;
   const token = access ? access.tokens.issue() : null;
   const web = new WebShell({ service, port: 0, staticDir, access });
   await web.listen();

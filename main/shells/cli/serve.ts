@@ -56,7 +56,7 @@ export async function startWeb(opts: WebStartOptions): Promise<Served> {
   let web: WebShell;
   let access: WebAccess | null = null;
   try {
-    access = guarded ? new WebAccess(new AccessTokens(store.db)) : null;
+    access = guarded ? new WebAccess(new AccessTokens(store)) : null;
     const names = networked ? reachableNames(host) : [];
     web = new WebShell({
       service,
