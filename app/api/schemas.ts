@@ -237,5 +237,18 @@ export const StatusSchema = z.object({
   tunedRole: PointRoleSchema.nullable(),
   trims: TrimPositionsSchema,
   lastError: z.string().nullable(),
+  /**
+   * What the open session's source can do, as its driver declares it (main/sources): the renderer reads
+   * this, never the spec string. Null with no session open.
+   */
+  sourceCaps: z
+    .object({
+      tune: z.boolean(),
+      trims: z.boolean(),
+      unbalance: z.boolean(),
+      template: z.boolean(),
+      simulated: z.boolean(),
+    })
+    .nullable(),
 });
 export type Status = z.infer<typeof StatusSchema>;

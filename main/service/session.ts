@@ -93,6 +93,15 @@ export class SessionCalls {
       tunedRole: l?.role ?? null,
       trims: l?.trims ?? {},
       lastError: l?.lastError ?? null,
+      sourceCaps: l
+        ? {
+            tune: l.source.caps.tune,
+            trims: l.source.caps.trims,
+            unbalance: l.source.caps.unbalance,
+            template: l.source.caps.template === true,
+            simulated: l.source.caps.simulated === true,
+          }
+        : null,
     };
   }
 

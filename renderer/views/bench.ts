@@ -49,11 +49,13 @@ export class BenchView {
   async open(session: Session): Promise<void> {
     this.session = session;
     this.nullTrim = session.trims[0]?.key ?? 'A';
-    this.render();
+    // The status first: it says what the source can do, which decides what the view offers.
     const [kept, status] = await Promise.all([
       this.api.call('readings', { sessionId: session.id, keptOnly: true }),
       this.api.call('status', {}),
     ]);
+    this.status = status;
+    this.render();
     this.kept = kept;
     this.onStatus(status);
     this.refreshKept();
@@ -277,7 +279,8 @@ export class BenchView {
       },
       'Run sweep',
     );
-    const simOnly = s.receiver.source.startsWith('sim');
+    // The sweep needs a source that turns its own trimmers, as the status says its driver declares.
+    const simOnly = this.status?.sourceCaps?.trims === true;
     const sweepCard = simOnly
       ? h(
           'section',
@@ -343,6 +346,7 @@ export class BenchView {
     this.guide = new GuidePanel(this.api, s, this.notify, {
       keep: () => this.keep(true),
       fitted: () => this.refreshKept(false),
+      turnsTrims: simOnly,
     });
     this.root.append(
       h(

@@ -43,6 +43,8 @@ export interface GuideHooks {
   keep: () => Promise<void>;
   /** The fit changed: redraw the null chart. */
   fitted: () => void;
+  /** The source turns the trimmers itself (the simulated bench), as its driver declares. */
+  turnsTrims: boolean;
 }
 
 export class GuidePanel {
@@ -93,7 +95,7 @@ export class GuidePanel {
     e.stop = h('div', { class: 'guide-stop', id: 'guide-stop', hidden: true });
     e.last = h('div', { class: 'guide-last', id: 'guide-last' });
     e.historyBody = h('tbody', { id: 'guide-history' });
-    const simOnly = s.receiver.source.startsWith('sim');
+    const simOnly = hooks.turnsTrims;
     e.set = h(
       'button',
       {

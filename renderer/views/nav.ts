@@ -7,7 +7,6 @@ import { DesignsView } from './designs';
 import { SheetView } from './sheetview';
 import { go, parseRoute, type NavDeps, type RecordsView, type Route } from '../route';
 
-
 const LABELS: [Route['view'], string][] = [
   ['bench', 'Bench'],
   ['designs', 'Designs & units'],
