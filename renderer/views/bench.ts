@@ -47,16 +47,14 @@ export class BenchView {
   readonly plan: PlanPanel;
 
   async open(session: Session): Promise<void> {
+    // The status first: it says what the source can do, which decides what the view offers. Until the new
+    // session's view is drawn, events still go to the old one (they name their session).
+    const status = await this.api.call('status', {});
     this.session = session;
     this.nullTrim = session.trims[0]?.key ?? 'A';
-    // The status first: it says what the source can do, which decides what the view offers.
-    const [kept, status] = await Promise.all([
-      this.api.call('readings', { sessionId: session.id, keptOnly: true }),
-      this.api.call('status', {}),
-    ]);
     this.status = status;
     this.render();
-    this.kept = kept;
+    this.kept = await this.api.call('readings', { sessionId: session.id, keptOnly: true });
     this.onStatus(status);
     this.refreshKept();
   }
