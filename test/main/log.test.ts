@@ -112,6 +112,8 @@ describe('nullbench log', () => {
       ]);
       assert.equal(r.code, 1);
       assert.match(r.err, /EUNSAFE.*--path: refused: .*rated maximum of -10 dBm/);
+      // The caution once, in the one wording of app/caution.ts.
+      assert.equal(r.err.split('dummy load').length - 1, 1, r.err);
       const conn = new Database(db, { readonly: true });
       for (const t of ['designs', 'revisions', 'units', 'sessions', 'readings'])
         assert.equal((conn.prepare(`SELECT COUNT(*) AS n FROM ${t}`).get() as { n: number }).n, 0, t);

@@ -2,18 +2,10 @@
 // database, printing each reading as one JSON line only after it has been committed to disk. A line on
 // stdout is a promise: that reading, with that id, is in the `readings` table, even if the power fails next.
 import { BenchError } from '../../../app/errors';
-import { assertReceiverSafe, parsePathSpec, validatePath } from '../../../app/path';
-import {
-  POINT_ROLES,
-  SessionInputSchema,
-  type LiveReading,
-  type PointRole,
-  type Session,
-} from '../../../app/api';
-import { benchErrorFromZod } from '../../../app/zodissue';
+import { parsePathSpec } from '../../../app/path';
+import { POINT_ROLES, type LiveReading, type PointRole, type Session } from '../../../app/api';
 import { MAX_RATE_HZ, pacedSource } from '../../live/pace';
 import { defaultDbPath } from '../../paths';
-import { RF_CAUTION } from '../../../app/caution';
 import { Service } from '../../service';
 import { createSource, SOURCES } from '../../sources';
 import { Store } from '../../store/store';
@@ -185,35 +177,28 @@ function continuable(store: Store, id: string): Session {
 
 type Values = Partial<Record<(typeof SETUP_OPTIONS)[number], string>>;
 
-/** Finds the unit by serial, or creates it (and its design and revision, by name, where new). */
-async function unitFor(service: Service, store: Store, v: Values): Promise<string> {
+/**
+ * The design, revision and serial a new session is for: an existing unit keeps its own design and revision
+ * (naming others is a conflict); a new one takes the names given, or the defaults.
+ */
+function unitNames(store: Store, v: Values): { design: string; revision: string; serial: string } {
   const serial = (v.unit ?? DEFAULT_UNIT).trim();
   const existing = store.findUnitBySerial(serial);
-  if (existing) {
-    if (v.design !== undefined || v.revision !== undefined) {
-      const rev = store.getRevision(existing.revisionId);
-      const design = store.getDesign(rev.designId);
-      if ((v.design ?? design.name) !== design.name || (v.revision ?? rev.name) !== rev.name)
-        throw new BenchError(
-          'ECONFLICT',
-          `unit "${serial}" already exists as revision "${rev.name}" of "${design.name}"`,
-          '--unit',
-        );
-    }
-    return existing.id;
-  }
-  const designName = (v.design ?? DEFAULT_DESIGN).trim();
-  const revisionName = (v.revision ?? DEFAULT_REVISION).trim();
-  const tree = store.tree();
-  const design = tree.find((d) => d.name === designName) ?? {
-    ...(await service.invoke('createDesign', { name: designName })),
-    revisions: [],
-  };
-  const revision =
-    design.revisions.find((r) => r.name === revisionName) ??
-    (await service.invoke('createRevision', { designId: design.id, name: revisionName }));
-  const unit = await service.invoke('createUnit', { revisionId: revision.id, serial });
-  return unit.id;
+  if (!existing)
+    return {
+      design: (v.design ?? DEFAULT_DESIGN).trim(),
+      revision: (v.revision ?? DEFAULT_REVISION).trim(),
+      serial,
+    };
+  const rev = store.getRevision(existing.revisionId);
+  const design = store.getDesign(rev.designId);
+  if ((v.design ?? design.name) !== design.name || (v.revision ?? rev.name) !== rev.name)
+    throw new BenchError(
+      'ECONFLICT',
+      `unit "${serial}" already exists as revision "${rev.name}" of "${design.name}"`,
+      '--unit',
+    );
+  return { design: design.name, revision: rev.name, serial };
 }
 
 async function newSession(service: Service, store: Store, v: Values): Promise<Session> {
@@ -221,9 +206,8 @@ async function newSession(service: Service, store: Store, v: Values): Promise<Se
   const maxInputDbm = numberOption(v['max-input-dbm'], 'max-input-dbm');
   const path = parsePathSpec(v.path ?? '');
   const source = (v.source ?? 'sim').trim();
-  // Checks the source spec before anything is written.
+  // Checks the source spec and its options before anything is written.
   createSource(source);
-  // Everything the session needs is checked (and the safety check passed) before the unit is created.
   const setup = {
     receiver: {
       name: `receiver ${source}`,
@@ -243,22 +227,15 @@ async function newSession(service: Service, store: Store, v: Values): Promise<Se
       { key: 'B', label: 'Balance C', unit: 'turns', min: 0, max: 10 },
     ],
   };
-  // Everything is checked (the receiver safety check too) before a design, revision or unit is written.
-  const parsed = SessionInputSchema.safeParse({ ...setup, unitId: 'pending' });
-  if (!parsed.success) throw optionError(benchErrorFromZod(parsed.error));
+  // One call: the service checks everything (the receiver safety check too) before a design, revision,
+  // unit or session is written, so a refused set-up leaves the database as it was.
   try {
-    assertReceiverSafe(txPepDbm, validatePath(path), maxInputDbm);
+    return await service.invoke('startSession', { ...setup, ...unitNames(store, v) });
   } catch (e) {
-    if (e instanceof BenchError && e.code === 'EUNSAFE')
-      throw new BenchError(
-        'EUNSAFE',
-        `refused: ${e.message.replace(`${e.field}: `, '')} ${RF_CAUTION}`,
-        '--path',
-      );
+    if (e instanceof BenchError && e.code === 'EUNSAFE') throw new BenchError('EUNSAFE', e.message, '--path');
+    if (e instanceof BenchError) throw optionError(e);
     throw e;
   }
-  const unitId = await unitFor(service, store, v);
-  return service.invoke('createSession', { ...setup, unitId });
 }
 
 /** Names the command-line option behind a session field ("carrierHz" -> "--carrier-hz"). */
@@ -274,7 +251,7 @@ function optionError(e: BenchError): BenchError {
     notes: '--notes',
   };
   const field = e.field ?? '';
-  return new BenchError(e.code, e.message.replace(`${field}: `, ''), map[field] ?? field);
+  return new BenchError(e.code, e.message, map[field] ?? field);
 }
 
 /** Reads until --for-s runs out, a signal arrives, or the source fails in a way retrying cannot heal. */
