@@ -35,7 +35,7 @@ export class BenchError extends Error {
 
   /** The BenchError a failed call carried across a process boundary. */
   static fromFailure(f: { code: string; message: string; field?: string }): BenchError {
-    const code = (CODES as readonly string[]).includes(f.code) ? (f.code as ErrorCode) : 'EIO';
+    const code = (ERROR_CODES as readonly string[]).includes(f.code) ? (f.code as ErrorCode) : 'EIO';
     return new BenchError(code, f.message, f.field);
   }
 }
@@ -69,7 +69,8 @@ export interface Failure {
   field?: string;
 }
 
-const CODES: readonly ErrorCode[] = [
+/** Every error code, for checks that a failure carries one of ours. */
+export const ERROR_CODES: readonly ErrorCode[] = [
   'EINVAL',
   'ENOTFOUND',
   'ETIMEOUT',

@@ -1,18 +1,8 @@
 // Test helpers for the property-based fuzz tests: what "a clear error" means, checked the same way everywhere.
 import assert from 'node:assert/strict';
-import { BenchError } from '../../app/errors';
+import { BenchError, ERROR_CODES } from '../../app/errors';
 
-const CODES = new Set([
-  'EINVAL',
-  'ENOTFOUND',
-  'ETIMEOUT',
-  'EIO',
-  'EPROTO',
-  'EREJECTED',
-  'ENAVAIL',
-  'EUNSAFE',
-  'ECONFLICT',
-]);
+const CODES = new Set<string>(ERROR_CODES);
 
 /** Texts that betray a crash inside our code rather than an error written for the user. */
 const LEAKS =
