@@ -3,20 +3,11 @@
 // nothing cites a document outside the repository.
 import { describe, it } from 'node:test';
 import assert from 'node:assert/strict';
-import { existsSync, readdirSync, readFileSync, statSync } from 'node:fs';
-import { join, relative, resolve } from 'node:path';
+import { existsSync, readFileSync } from 'node:fs';
+import { join, relative } from 'node:path';
+import { filesUnder, ROOT } from '../helpers/tree';
 
-const ROOT = resolve(import.meta.dirname, '../..');
-
-function files(dir: string): string[] {
-  const out: string[] = [];
-  for (const n of readdirSync(dir).sort()) {
-    const p = join(dir, n);
-    if (statSync(p).isDirectory()) out.push(...files(p));
-    else if (/\.(ts|mjs|js|css|html)$/.test(n)) out.push(p);
-  }
-  return out;
-}
+const files = (dir: string) => filesUnder(dir, /\.(ts|mjs|js|css|html)$/);
 
 function headings(file: string): string[] {
   return readFileSync(join(ROOT, file), 'utf8')

@@ -3,20 +3,12 @@
 // main/sources/ tells a source by the prefix of its spec string.
 import { describe, it } from 'node:test';
 import assert from 'node:assert/strict';
-import { existsSync, readdirSync, readFileSync, statSync } from 'node:fs';
+import { existsSync, readFileSync } from 'node:fs';
 import { dirname, join, relative, resolve } from 'node:path';
+import { filesUnder, ROOT } from '../helpers/tree';
 
-const ROOT = resolve(import.meta.dirname, '../..');
-
-function tsFiles(dir: string): string[] {
-  const out: string[] = [];
-  for (const n of readdirSync(dir).sort()) {
-    const p = join(dir, n);
-    if (statSync(p).isDirectory()) out.push(...tsFiles(p));
-    else if (n.endsWith('.ts') && !n.endsWith('.d.ts')) out.push(p);
-  }
-  return out;
-}
+/** TypeScript sources, declaration files left out. */
+const tsFiles = (dir: string) => filesUnder(dir, /^(?!.*\.d\.ts$).*\.ts$/);
 
 /** Relative import and export specifiers of a source file (static, dynamic and type-only alike). */
 export function importsOf(src: string): string[] {
