@@ -15,30 +15,26 @@ const HOUSE = 'see docs/design.md § The house';
 
 /** The rule for one floor: no import of a floor above it, however many folders up the path climbs. */
 function floorRule(floor) {
-  const above = FLOORS.slice(FLOORS.indexOf(floor) + 1);
-  if (!above.length) return [];
-  return [
+  const i = FLOORS.indexOf(floor);
+  const above = FLOORS.slice(i + 1);
+  const patterns = [
     {
-      files: [`main/${floor}/**/*.ts`],
-      rules: {
-        'no-restricted-imports': [
-          'error',
-          {
-            patterns: [
-              {
-                regex: `^(\\.\\./)+(${above.join('|')})(/|$)`,
-                message: `main/${floor}/ may import only from the floors below it (${FLOORS.slice(0, FLOORS.indexOf(floor)).join(', ') || 'none'}), app/ and main/paths.ts: ${HOUSE}.`,
-              },
-              {
-                regex: '^(\\.\\./)+renderer(/|$)',
-                message: `main/ talks to renderer/ only through the service contract: ${HOUSE}.`,
-              },
-            ],
-          },
-        ],
-      },
+      regex: '^(\\.\\./)+renderer(/|$)',
+      message: `main/ talks to renderer/ only through the service contract: ${HOUSE}.`,
     },
   ];
+  if (above.length)
+    patterns.push({
+      regex: `^(\\.\\./)+(${above.join('|')})(/|$)`,
+      message: `main/${floor}/ may import only from the floors below it (${FLOORS.slice(0, i).join(', ') || 'none'}), app/ and main/paths.ts: ${HOUSE}.`,
+    });
+  // Above the store, its connection is out of reach: every SQL statement lives in main/store/.
+  if (i > FLOORS.indexOf('store'))
+    patterns.push({
+      regex: '(^|/)store/connection$',
+      message: `only main/store/ opens the database connection; add a repository method there: ${HOUSE}.`,
+    });
+  return [{ files: [`main/${floor}/**/*.ts`], rules: { 'no-restricted-imports': ['error', { patterns }] } }];
 }
 
 export default tseslint.config(

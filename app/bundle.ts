@@ -1,6 +1,6 @@
 // Runs anywhere (app/ is runtime-free). The bundle: everything one bench knows (or one design of it) as
 // one JSON file keyed by stable IDs, so benches can move designs and sessions between databases and merge
-// them without duplicates. This file is the shape; main/records/bundle reads and writes it.
+// them without duplicates. This file is the shape; main/store/bundles.ts reads and writes it.
 import { z } from 'zod';
 import { EMISSIONS, SUPPRESSION_REFERENCES } from './analysis';
 import { PointRoleSchema, ReceiverProfileSchema, TrimDefSchema, TrimPositionsSchema } from './api/schemas';

@@ -4,7 +4,8 @@ import type { PointRole, TrimDef } from '../../app/api';
 import { BenchError } from '../../app/errors';
 import type { Invoke, ServiceOptions } from './handlers';
 import { createSource } from '../sources';
-import type { Store } from '../store/store';
+import { Store } from '../store/store';
+import { exportBundleText, importBundle } from '../store/bundles';
 
 export const DEMO_DESIGN = 'Heron DSB-40';
 
@@ -97,25 +98,50 @@ export interface DemoSummary {
   keptReadings: number;
 }
 
-/** Seeds the demo scenario into the store; refuses if it is already there (nothing is changed then). */
 /** Makes the service the demo runs on; the Service passes its own constructor (no import back to it). */
 export type DemoServiceFactory = (opts: ServiceOptions) => { invoke: Invoke; close(): Promise<void> };
 
+/**
+ * Seeds the demo scenario into the store, all or nothing; refuses if it is already there (nothing is changed
+ * then). The sessions are run on a scratch database in memory through the service, then merged into the
+ * store in one transaction: the store's connection keeps its durability (a live session may be writing on
+ * it), and a demo killed half-way leaves nothing behind.
+ */
 export async function seedDemo(store: Store, makeService: DemoServiceFactory): Promise<DemoSummary> {
-  if (store.tree().some((d) => d.name === DEMO_DESIGN))
-    throw new BenchError('ECONFLICT', `the demo design "${DEMO_DESIGN}" is already in this database`, '--db');
-  // Invented data needs no fsync per stored reading (FULL durability is for real measurements): seeding
-  // takes seconds instead of minutes on a slow disk. FULL is back before this returns.
-  store.db.pragma('synchronous = NORMAL');
+  const refuseIfThere = () => {
+    if (store.tree().some((d) => d.name === DEMO_DESIGN))
+      throw new BenchError(
+        'ECONFLICT',
+        `the demo design "${DEMO_DESIGN}" is already in this database`,
+        '--db',
+      );
+  };
+  refuseIfThere();
+  const scratch = new Store(':memory:');
   try {
-    let t0 = 0;
-    let leak = -60;
-    // Demo sessions run on a virtual clock so seeding takes seconds, and are dated on the day of the session.
-    const service = makeService({
-      store,
-      mode: 'cli',
-      createSource: (spec) => createSource(`${spec},fast,t0=${t0},leak=${leak}`),
+    const summary = await runDemo(scratch, makeService);
+    const text = exportBundleText(scratch, summary.designId);
+    // Another program may have seeded it meanwhile: check again inside the merge's transaction.
+    store.tx(() => {
+      refuseIfThere();
+      importBundle(store, text);
     });
+    return summary;
+  } finally {
+    scratch.close();
+  }
+}
+
+async function runDemo(store: Store, makeService: DemoServiceFactory): Promise<DemoSummary> {
+  let t0 = 0;
+  let leak = -60;
+  // Demo sessions run on a virtual clock so seeding takes seconds, and are dated on the day of the session.
+  const service = makeService({
+    store,
+    mode: 'cli',
+    createSource: (spec) => createSource(`${spec},fast,t0=${t0},leak=${leak}`),
+  });
+  try {
     const design = await service.invoke('createDesign', {
       name: DEMO_DESIGN,
       notes: 'A 40 m DSB transceiver kit with a diode ring balanced modulator (demo scenario, invented).',
@@ -161,9 +187,7 @@ export async function seedDemo(store: Store, makeService: DemoServiceFactory): P
             'Carrier null by trimmer A, then B, coarse then fine; tones, products, reference and floor afterwards.',
           trims: TRIMS,
         });
-        store.db
-          .prepare('UPDATE sessions SET started_at = ? WHERE id = ?')
-          .run(new Date(day).toISOString(), s.id);
+        store.redateSession(s.id, new Date(day).toISOString());
         await service.invoke('openSession', { sessionId: s.id });
         // A coarse sweep of A with B where it came from the factory, then of B with A at its best, then finer
         // passes around the best of each, as a builder closes in on the null until the layout's leakage stops it.
@@ -186,9 +210,8 @@ export async function seedDemo(store: Store, makeService: DemoServiceFactory): P
         sessions++;
       }
     }
-    await service.close();
     return { designId: design.id, units, sessions, keptReadings: kept };
   } finally {
-    store.db.pragma('synchronous = FULL');
+    await service.close();
   }
 }

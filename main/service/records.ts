@@ -5,10 +5,10 @@ import { evaluateSet } from '../../app/limits';
 import { sheetPdf, renderSheet } from '../sheet';
 import type { GroupHandlers, ServiceContext } from './handlers';
 import { formatBundle } from '../../app/bundle';
-import { exportBundle, importBundle } from '../records/bundle';
-import { readingsCsv } from '../records/csv';
-import { Records } from '../records/manage';
-import { compareDesign, loadSessionResult } from '../records/results';
+import { exportBundle, importBundle } from '../store/bundles';
+import { readingsCsv } from '../store/csv';
+import { Records } from '../store/records';
+import { compareDesign, loadSessionResult } from '../sheet/results';
 
 /** Bundle uploads in parts (web mode): the parts so far, and when the last one came. */
 const UPLOAD_TTL_MS = 10 * 60_000;

@@ -20,8 +20,8 @@ import {
   type Verdict,
 } from '../../app/limits';
 import { analysePath, validatePath } from '../../app/path';
-import { Records } from '../records/manage';
-import { loadSessionResult, sessionsWithResults, type SessionResult } from '../records/results';
+import { Records } from '../store/records';
+import { loadSessionResult, sessionsWithResults, type SessionResult } from './results';
 import { RF_CAUTION } from '../../app/caution';
 import type { Store } from '../store/store';
 import type { NullSeries, PlanLine, PlanPoint } from './svg';

@@ -2,6 +2,7 @@
 // Hashes only: the token's text never reaches the store; hashing and checking stay in main/shells/access.ts.
 import { BenchError } from '../../app/errors';
 import type { Store } from './store';
+import { connectionOf } from './connection';
 
 export interface TokenInfo {
   id: number;
@@ -20,7 +21,7 @@ export class AccessTokenRepo {
   }
 
   private get db() {
-    return this.store.db;
+    return connectionOf(this.store);
   }
 
   /** Revokes every active token and stores a new one's hash, in one transaction. */

@@ -6,6 +6,7 @@ import type { PointRole } from '../../app/api';
 import { BenchError } from '../../app/errors';
 import type { PlanPoint, PlanRun, PlanSpec, PlanState, PointAverage } from '../../app/plan';
 import type { Store } from './store';
+import { connectionOf } from './connection';
 
 interface RunRow {
   id: string;
@@ -67,7 +68,7 @@ export class PlanRepo {
   constructor(private readonly store: Store) {}
 
   private get db() {
-    return this.store.db;
+    return connectionOf(this.store);
   }
 
   createRun(sessionId: string, spec: PlanSpec, points: { role: PointRole; freqHz: number }[]): PlanRun {

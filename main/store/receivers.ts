@@ -19,6 +19,7 @@ import { benchErrorFromZod } from '../../app/zodissue';
 import type { TemplateEntry } from '../../app/api/receivers';
 import type { Store } from './store';
 import { takesTemplate, templateNameInSpec } from '../sources';
+import { connectionOf } from './connection';
 
 interface ReceiverRow {
   id: string;
@@ -56,7 +57,7 @@ export class ReceiverRepo {
   constructor(private readonly store: Store) {}
 
   private get db() {
-    return this.store.db;
+    return connectionOf(this.store);
   }
 
   // ---- templates -----------------------------------------------------------------------------

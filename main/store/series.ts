@@ -8,6 +8,7 @@ import type { PointRole } from '../../app/api';
 import { check } from '../../app/errors';
 import type { Series, SeriesBucket } from '../../app/decimate';
 import type { Store } from './store';
+import { connectionOf } from './connection';
 
 export interface SeriesQuery {
   sessionId: string;
@@ -99,13 +100,13 @@ function where(role: PointRole | null): string {
 
 /** Builds a session's grid in one SQL pass over its readings. */
 function buildGrid(store: Store, sessionId: string, role: PointRole | null): Grid | null {
-  const span = store.db
+  const span = connectionOf(store)
     .prepare(`SELECT MIN(t_ms) AS lo, MAX(t_ms) AS hi, MAX(id) AS last FROM readings WHERE ${where(role)}`)
     .get({ s: sessionId, role }) as { lo: number | null; hi: number | null; last: number | null };
   if (span.lo === null || span.hi === null || span.last === null) return null;
   const width = 2 ** Math.max(0, Math.ceil(Math.log2((span.hi - span.lo + 1) / FINE_CAP)));
   const g = new Grid(span.lo, width, span.last);
-  const rows = store.db
+  const rows = connectionOf(store)
     .prepare(
       `SELECT CAST((t_ms - @o) / @w AS INTEGER) AS i, COUNT(*) AS n, MIN(dbm_dut) AS lo, MAX(dbm_dut) AS hi,
               SUM(floor_limited) AS f
@@ -132,7 +133,7 @@ function gridFor(store: Store, sessionId: string, role: PointRole | null): Grid 
   let g = mine.get(key) ?? null;
   if (g) {
     // "+session_id": walk the rowid range of the new readings, not the whole session's index entries.
-    const fresh = store.db
+    const fresh = connectionOf(store)
       .prepare(
         `SELECT id, t_ms, dbm_dut, floor_limited FROM readings
          WHERE id > @last AND +session_id = @s${role ? ' AND role = @role' : ''} ORDER BY id`,
@@ -162,13 +163,13 @@ function direct(store: Store, q: SeriesQuery, fromT: number, toT: number, role: 
   const bucket = `MIN(@last, CAST((t_ms - @from) / @w AS INTEGER))`;
   // SQLite takes a bare column from the row that holds the MIN() (or MAX()) when the query has just one:
   // two passes give the time of the lowest and of the highest reading of each bucket.
-  const lows = store.db
+  const lows = connectionOf(store)
     .prepare(
       `SELECT ${bucket} AS b, COUNT(*) AS n, MIN(dbm_dut) AS min, t_ms AS tMin, SUM(floor_limited) AS floor
        FROM readings WHERE ${inWindow} GROUP BY b ORDER BY b`,
     )
     .all(params) as { b: number; n: number; min: number; tMin: number; floor: number }[];
-  const highs = store.db
+  const highs = connectionOf(store)
     .prepare(
       `SELECT ${bucket} AS b, MAX(dbm_dut) AS max, t_ms AS tMax FROM readings WHERE ${inWindow} GROUP BY b`,
     )

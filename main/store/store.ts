@@ -16,6 +16,7 @@ import type {
   Unit,
 } from '../../app/api';
 import { openDb, type Db, type OpenOptions } from './db';
+import { registerConnection } from './connection';
 import type { NewReading, ReadingSink } from '../live/sink';
 
 export interface NewSession {
@@ -114,7 +115,7 @@ function isUniqueViolation(e: unknown): boolean {
 }
 
 export class Store implements ReadingSink {
-  readonly db: Db;
+  private readonly db: Db;
   readonly file: string;
   private readonly insertReadingStmt;
   private readonly correctionIds = new Map<string, number>();
@@ -122,6 +123,7 @@ export class Store implements ReadingSink {
   constructor(file: string, opts: OpenOptions = {}) {
     this.file = file;
     this.db = openDb(file, opts);
+    registerConnection(this, this.db);
     this.insertReadingStmt = this.db.prepare(
       `INSERT INTO readings (uid, session_id, t_ms, freq_hz, role, raw, dbm_rx, dbm_dut, u_db, settled, kept,
          floor_limited, overload, trims_json, correction_id, note)
@@ -341,6 +343,12 @@ export class Store implements ReadingSink {
     const r = this.db.prepare('SELECT * FROM sessions WHERE id = ?').get(id) as SessionRow | undefined;
     if (!r) throw new BenchError('ENOTFOUND', `no session with id "${id}"`, 'sessionId');
     return rowToSession(r);
+  }
+
+  /** Sets when a session started (the demo dates its invented sessions on the day they happened). */
+  redateSession(id: string, startedAt: string): void {
+    this.getSession(id);
+    this.db.prepare('UPDATE sessions SET started_at = ? WHERE id = ?').run(startedAt, id);
   }
 
   endSession(id: string, at = now()): void {

@@ -3,12 +3,13 @@
 import { describe, it } from 'node:test';
 import assert from 'node:assert/strict';
 import { BenchError } from '../../app/errors';
-import { exportBundle, exportBundleText, importBundle } from '../../main/records/bundle';
-import { Records } from '../../main/records/manage';
+import { exportBundle, exportBundleText, importBundle } from '../../main/store/bundles';
+import { Records } from '../../main/store/records';
 import { Service } from '../../main/service';
 import { Store } from '../../main/store/store';
 import { demoDb } from '../helpers/demo';
 import { tempDb } from '../helpers/tmp';
+import { connectionOf } from '../../main/store/connection';
 
 const TABLES = [
   'designs',
@@ -25,7 +26,10 @@ const TABLES = [
 
 function counts(store: Store): Record<string, number> {
   return Object.fromEntries(
-    TABLES.map((t) => [t, (store.db.prepare(`SELECT COUNT(*) AS n FROM ${t}`).get() as { n: number }).n]),
+    TABLES.map((t) => [
+      t,
+      (connectionOf(store).prepare(`SELECT COUNT(*) AS n FROM ${t}`).get() as { n: number }).n,
+    ]),
   );
 }
 
@@ -303,7 +307,7 @@ describe('records.bundle', () => {
     const target = new Store(t.file);
     try {
       // A trigger that fails on the 100th reading stands in for a disk or constraint failure mid-import.
-      target.db
+      connectionOf(target)
         .exec(`CREATE TRIGGER fail_late BEFORE INSERT ON readings WHEN (SELECT COUNT(*) FROM readings) >= 100
         BEGIN SELECT RAISE(ABORT, 'disk full (simulated)'); END`);
       const before = counts(target);

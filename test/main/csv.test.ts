@@ -3,11 +3,12 @@
 import { describe, it } from 'node:test';
 import assert from 'node:assert/strict';
 import { csvField, toCsv } from '../../app/csv';
-import { readingsCsv } from '../../main/records/csv';
-import { Records } from '../../main/records/manage';
+import { readingsCsv } from '../../main/store/csv';
+import { Records } from '../../main/store/records';
 import { Store } from '../../main/store/store';
 import { demoDb } from '../helpers/demo';
 import { pythonJson } from '../helpers/python';
+import { connectionOf } from '../../main/store/connection';
 
 /** Python's csv.reader on the bytes (utf-8-sig drops the byte order mark, as spreadsheets do). */
 function pyRows(csv: string): string[][] {
@@ -52,7 +53,7 @@ describe('records.readingsCsv()', () => {
       const u = new Records(store).unitBySerial('HD40-0102');
       const s = store.listSessions(u.id)[0];
       // A note with a comma, a quote and a line break must survive the trip.
-      store.db
+      connectionOf(store)
         .prepare(
           'UPDATE readings SET note = ? WHERE id = (SELECT MIN(id) FROM readings WHERE session_id = ?)',
         )
@@ -61,7 +62,9 @@ describe('records.readingsCsv()', () => {
       assert.ok(r.csv.startsWith('\uFEFF'), 'UTF-8 byte order mark for spreadsheets');
       const rows = pyRows(r.csv);
       const n = (
-        store.db.prepare('SELECT COUNT(*) AS n FROM readings WHERE session_id = ?').get(s.id) as { n: number }
+        connectionOf(store).prepare('SELECT COUNT(*) AS n FROM readings WHERE session_id = ?').get(s.id) as {
+          n: number;
+        }
       ).n;
       assert.equal(rows.length, n + 1, 'a header and one row per reading');
       assert.equal(r.rows, n);
@@ -77,7 +80,7 @@ describe('records.readingsCsv()', () => {
       ])
         assert.ok(head.includes(h), `header has "${h}"`);
       const col = (name: string) => head.indexOf(name);
-      const stored = store.db
+      const stored = connectionOf(store)
         .prepare('SELECT uid, dbm_dut, freq_hz, note FROM readings WHERE session_id = ? ORDER BY t_ms, id')
         .all(s.id) as { uid: string; dbm_dut: number; freq_hz: number; note: string }[];
       rows.slice(1).forEach((row, i) => {
@@ -92,7 +95,7 @@ describe('records.readingsCsv()', () => {
       assert.match(r.fileName, /^nullbench-readings-unit-HD40-0102\.csv$/);
       assert.equal(
         readingsCsv(store).rows,
-        (store.db.prepare('SELECT COUNT(*) AS n FROM readings').get() as { n: number }).n,
+        (connectionOf(store).prepare('SELECT COUNT(*) AS n FROM readings').get() as { n: number }).n,
       );
     } finally {
       store.close();

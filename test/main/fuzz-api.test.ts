@@ -15,6 +15,7 @@ import { createSource } from '../../main/sources';
 import { Store } from '../../main/store/store';
 import { AWKWARD_NUMBERS, assertClearFailure, assertNoBadRows } from '../helpers/fuzz';
 import { tempDir } from '../helpers/tmp';
+import { connectionOf } from '../../main/store/connection';
 
 const RUNS_PER_CALL = Number(process.env.FUZZ_API_RUNS ?? 25);
 const CODES = ['EINVAL', 'ENOTFOUND', 'ETIMEOUT', 'EPROTO', 'EREJECTED', 'ENAVAIL', 'EUNSAFE', 'ECONFLICT'];
@@ -326,7 +327,7 @@ describe('fuzz: the service contract', { timeout: 600_000 }, () => {
         }),
         { numRuns: RUNS_PER_CALL },
       );
-      assertNoBadRows(store.db, name);
+      assertNoBadRows(connectionOf(store), name);
       // Every call was reached with a payload it accepted at least once, or is one that needs state a
       // random payload rarely builds (noted here so a call never silently goes unexercised).
       if (ok === 0)

@@ -7,13 +7,14 @@ import assert from 'node:assert/strict';
 import { join } from 'node:path';
 import fc from 'fast-check';
 import { formatBundle } from '../../app/bundle';
-import { exportBundle, importBundle } from '../../main/records/bundle';
-import { Records } from '../../main/records/manage';
+import { exportBundle, importBundle } from '../../main/store/bundles';
+import { Records } from '../../main/store/records';
 import { Service } from '../../main/service';
 import { createSource } from '../../main/sources';
 import { Store } from '../../main/store/store';
 import { assertClearError, assertNoBadRows, snapshotDb } from '../helpers/fuzz';
 import { tempDir } from '../helpers/tmp';
+import { connectionOf } from '../../main/store/connection';
 
 const RUNS = Number(process.env.FUZZ_RUNS ?? 300);
 
@@ -145,7 +146,7 @@ describe('fuzz: bundle import', () => {
 
   before(async () => {
     tmp = tempDir();
-    source = new Store(join(tmp.dir, 'source.db'));
+    source = new Store(join(tmp.dir, 'connectionOf(source)'));
     const service = new Service({
       store: source,
       mode: 'cli',
@@ -205,7 +206,7 @@ describe('fuzz: bundle import', () => {
       const sum = importBundle(target, text);
       assert.ok(readings >= 4);
       assert.equal(sum.added.readings, readings);
-      assertNoBadRows(target.db, 'clean import');
+      assertNoBadRows(connectionOf(target), 'clean import');
     } finally {
       target.close();
     }
@@ -221,17 +222,17 @@ describe('fuzz: bundle import', () => {
         const input = hurt(JSON.stringify(doc));
         const target = new Store(':memory:');
         try {
-          const before = snapshotDb(target.db);
+          const before = snapshotDb(connectionOf(target));
           try {
             importBundle(target, input);
             merged++;
           } catch (e) {
             assertClearError(e, ['EINVAL'], `import of ${JSON.stringify(edits).slice(0, 300)}`);
-            assert.equal(snapshotDb(target.db), before, 'a refused import wrote something');
+            assert.equal(snapshotDb(connectionOf(target)), before, 'a refused import wrote something');
             refused++;
             return;
           }
-          assertNoBadRows(target.db, `import of ${JSON.stringify(edits).slice(0, 300)}`);
+          assertNoBadRows(connectionOf(target), `import of ${JSON.stringify(edits).slice(0, 300)}`);
         } finally {
           target.close();
         }
@@ -247,11 +248,11 @@ describe('fuzz: bundle import', () => {
       fc.property(fc.array(edit, { minLength: 1, maxLength: 2 }), (edits) => {
         const doc = JSON.parse(text) as Json;
         for (const e of edits) applyEdit(doc, e, ids);
-        const before = snapshotDb(source.db);
+        const before = snapshotDb(connectionOf(source));
         try {
           source.tx(() => {
             importBundle(source, JSON.stringify(doc));
-            assertNoBadRows(source.db, 'merge');
+            assertNoBadRows(connectionOf(source), 'merge');
             // Undo the merge (the outer transaction) so every run starts from the same database.
             throw new Undo();
           });
@@ -259,7 +260,7 @@ describe('fuzz: bundle import', () => {
           if (e instanceof Undo) return;
           assertClearError(e, ['EINVAL'], `merge of ${JSON.stringify(edits).slice(0, 300)}`);
         }
-        assert.equal(snapshotDb(source.db), before, 'a refused merge changed the database');
+        assert.equal(snapshotDb(connectionOf(source)), before, 'a refused merge changed the database');
       }),
       { numRuns: Math.round(RUNS / 2) },
     );

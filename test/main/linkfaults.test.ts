@@ -17,6 +17,7 @@ import { assertNoBadRows } from '../helpers/fuzz';
 import { ptyPair } from '../helpers/pty';
 import { startRigctld } from '../helpers/rigctld';
 import { tempDir } from '../helpers/tmp';
+import { connectionOf } from '../../main/store/connection';
 
 async function until(ok: () => boolean, ms: number, what: string): Promise<void> {
   const end = Date.now() + ms;
@@ -168,7 +169,8 @@ describe('link faults, end to end', { timeout: 120_000 }, () => {
     try {
       const s = await b.session(`serial:${pty.a}@38400,template=db-over-s9`);
       await b.svc.invoke('openSession', { sessionId: s.id });
-      const count = () => (b.store.db.prepare('SELECT COUNT(*) AS n FROM readings').get() as { n: number }).n;
+      const count = () =>
+        (connectionOf(b.store).prepare('SELECT COUNT(*) AS n FROM readings').get() as { n: number }).n;
       await until(() => count() >= 10, 10_000, 'readings over the pty');
       await dev.stop();
       await pty.kill();
@@ -189,8 +191,8 @@ describe('link faults, end to end', { timeout: 120_000 }, () => {
         raws.every((v) => sent.has(v)),
         'a stored value is not one the device sent',
       );
-      assertGapsClean(b.store.db, s.id, /EIO/);
-      assertNoBadRows(b.store.db, 'after the pty came back');
+      assertGapsClean(connectionOf(b.store), s.id, /EIO/);
+      assertNoBadRows(connectionOf(b.store), 'after the pty came back');
     } finally {
       await b.close();
       await dev.stop();
@@ -236,9 +238,9 @@ describe('link faults, end to end', { timeout: 120_000 }, () => {
         'a value was stored twice or out of turn',
       );
       for (const r of stored) assert.ok(Math.abs(r.dbmRx - (-73 + r.raw)) < 1e-9); // IARU R.1: S9 = -73 dBm
-      const gaps = assertGapsClean(b.store.db, s.id, /ETIMEOUT/);
+      const gaps = assertGapsClean(connectionOf(b.store), s.id, /ETIMEOUT/);
       assert.ok(gaps.filter((g) => g.code === 'ETIMEOUT').length >= 3);
-      assertNoBadRows(b.store.db, 'after cut replies');
+      assertNoBadRows(connectionOf(b.store), 'after cut replies');
     } finally {
       await b.close();
       await srv.close();
@@ -291,8 +293,8 @@ describe('link faults, end to end', { timeout: 120_000 }, () => {
         assert.ok(Number.isInteger(r.raw));
         assert.equal(r.dbmRx, -73 + r.raw); // IARU R.1: S9 = -73 dBm, 1 dB per dB of STRENGTH
       }
-      assertGapsClean(b.store.db, s.id, /EIO/);
-      assertNoBadRows(b.store.db, 'after the plan');
+      assertGapsClean(connectionOf(b.store), s.id, /EIO/);
+      assertNoBadRows(connectionOf(b.store), 'after the plan');
     } finally {
       await b.close();
       await d.kill();

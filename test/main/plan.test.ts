@@ -14,6 +14,7 @@ import { ptyPair } from '../helpers/pty';
 import { startRigctld } from '../helpers/rigctld';
 import { serviceWithSession, TRIMS } from '../helpers/session';
 import { tempDb, tempDir } from '../helpers/tmp';
+import { connectionOf } from '../../main/store/connection';
 
 async function until<T>(fn: () => T | undefined | null | false, ms = 20000, what = 'condition'): Promise<T> {
   const end = Date.now() + ms;
@@ -83,7 +84,7 @@ describe('plans on the simulated bench', () => {
       for (const p of v.points) {
         const ids = t.service.plans.repo.pointReadings(v.id, p.idx);
         assert.equal(ids.length, 4);
-        const rows = t.store.db
+        const rows = connectionOf(t.store)
           .prepare(`SELECT role, freq_hz AS f FROM readings WHERE id IN (${ids.join(',')})`)
           .all() as { role: string; f: number }[];
         assert.ok(

@@ -3,8 +3,8 @@
 import { describe, it } from 'node:test';
 import assert from 'node:assert/strict';
 import { BenchError } from '../../app/errors';
-import { Records } from '../../main/records/manage';
-import { compareDesign, loadSessionResult } from '../../main/records/results';
+import { Records } from '../../main/store/records';
+import { compareDesign, loadSessionResult } from '../../main/sheet/results';
 import { Service } from '../../main/service';
 import { Store } from '../../main/store/store';
 import { demoDb } from '../helpers/demo';

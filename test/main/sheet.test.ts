@@ -9,7 +9,7 @@ import { join } from 'node:path';
 import Database from 'better-sqlite3';
 import { renderSheet } from '../../main/sheet';
 import { esc, niceTicks } from '../../main/sheet/svg';
-import { Records } from '../../main/records/manage';
+import { Records } from '../../main/store/records';
 import { Store } from '../../main/store/store';
 import { runCli } from '../helpers/cli';
 import { demoDb } from '../helpers/demo';

@@ -6,6 +6,7 @@ import { SimSource } from '../../main/sources/sim';
 import { IqSimServer } from '../../main/sim/iqserver';
 import { dsbGenerator } from '../../main/sim/dsbsignal';
 import { serviceWithSession } from '../helpers/session';
+import { connectionOf } from '../../main/store/connection';
 
 /** The next `skip + 1`th spectrum frame: frames averaged partly before a change are skipped. */
 function nextFrame(
@@ -62,7 +63,7 @@ describe('Service spectrumStart/spectrumKeep (iqsim)', () => {
       assert.ok(Math.abs(upper.freqHz - (7.1e6 + 1000)) < 20);
       const stored = await service.invoke('readings', { sessionId: ctx.session.id, keptOnly: true });
       assert.equal(stored.filter((r) => r.note.startsWith('spectrum')).length, 7);
-      const corr = ctx.store.db
+      const corr = connectionOf(ctx.store)
         .prepare(
           'SELECT c.calibration_json AS c FROM readings r JOIN corrections c ON c.id = r.correction_id WHERE r.id = ?',
         )

@@ -4,6 +4,7 @@ import { Store } from '../../main/store/store';
 import { loadMigrations, openDb, schemaVersion } from '../../main/store/db';
 import { BenchError } from '../../app/errors';
 import { tempDb } from '../helpers/tmp';
+import { connectionOf } from '../../main/store/connection';
 
 function seed(store: Store) {
   const d = store.createDesign({ name: 'Test design', notes: '' });
@@ -55,9 +56,11 @@ describe('Store', () => {
   });
 
   it('opens in WAL mode and records every migration applied', () => {
-    assert.equal(store.db.pragma('journal_mode', { simple: true }), 'wal');
-    assert.equal(schemaVersion(store.db), Math.max(...loadMigrations().map((m) => m.version)));
-    const rows = store.db.prepare('SELECT version FROM schema_migrations ORDER BY version').all() as {
+    assert.equal(connectionOf(store).pragma('journal_mode', { simple: true }), 'wal');
+    assert.equal(schemaVersion(connectionOf(store)), Math.max(...loadMigrations().map((m) => m.version)));
+    const rows = connectionOf(store)
+      .prepare('SELECT version FROM schema_migrations ORDER BY version')
+      .all() as {
       version: number;
     }[];
     assert.deepEqual(
@@ -81,7 +84,10 @@ describe('Store', () => {
       () => store.createUnit({ revisionId: r.id, serial: 'T-001', buildDate: '', builder: '', notes: '' }),
       (e: unknown) => e instanceof BenchError && e.code === 'ECONFLICT' && e.field === 'serial',
     );
-    assert.equal((store.db.prepare('SELECT COUNT(*) AS n FROM units').get() as { n: number }).n, 1);
+    assert.equal(
+      (connectionOf(store).prepare('SELECT COUNT(*) AS n FROM units').get() as { n: number }).n,
+      1,
+    );
   });
 
   it('refuses a session for an unknown unit with ENOTFOUND', () => {
@@ -120,7 +126,10 @@ describe('Store', () => {
   it('shares one corrections row among readings corrected the same way', () => {
     const { s } = seed(store);
     store.addReadings([1, 2, 3, 4].map((t) => reading(s.id, t, -90 - t)));
-    assert.equal((store.db.prepare('SELECT COUNT(*) AS n FROM corrections').get() as { n: number }).n, 1);
+    assert.equal(
+      (connectionOf(store).prepare('SELECT COUNT(*) AS n FROM corrections').get() as { n: number }).n,
+      1,
+    );
     assert.equal(store.readings(s.id, { keptOnly: true }).length, 2);
   });
 
@@ -150,7 +159,7 @@ describe('Store', () => {
   });
 
   it('refuses a database from a newer schema version and leaves it unchanged', () => {
-    store.db
+    connectionOf(store)
       .prepare('INSERT INTO schema_migrations (version, name, applied_at) VALUES (99, ?, ?)')
       .run('future', 'x');
     store.close();

@@ -16,6 +16,7 @@ import {
 } from '../../main/store/db';
 import { Store } from '../../main/store/store';
 import { tempDir } from '../helpers/tmp';
+import { connectionOf } from '../../main/store/connection';
 
 const T0 = '2026-05-02T18:00:00.000Z';
 
@@ -137,10 +138,10 @@ describe('upgrading a database', () => {
         let told: string | null = null;
         const store = new Store(file, { onBackup: (p) => (told = p) });
         try {
-          assert.equal(schemaVersion(store.db), latest);
-          assert.equal(store.db.pragma('integrity_check', { simple: true }), 'ok');
-          assert.deepEqual(store.db.pragma('foreign_key_check'), []);
-          const after = snapshot(store.db);
+          assert.equal(schemaVersion(connectionOf(store)), latest);
+          assert.equal(connectionOf(store).pragma('integrity_check', { simple: true }), 'ok');
+          assert.deepEqual(connectionOf(store).pragma('foreign_key_check'), []);
+          const after = snapshot(connectionOf(store));
           for (const [t, rows] of Object.entries(before)) {
             assert.ok(after[t], `table ${t} is gone after the upgrade`);
             // A later schema may add columns; every old column keeps its value.

@@ -14,6 +14,7 @@ import { startWeb, type Served } from '../../main/shells/cli/serve';
 import { runCli } from '../helpers/cli';
 import { rawRequest, type RawResponse } from '../helpers/http';
 import { tempDir } from '../helpers/tmp';
+import { connectionOf } from '../../main/store/connection';
 
 const MARKER = 'SECRET-OUTSIDE-THE-STATIC-FOLDER';
 const EVIL = 'http://attacker.example';
@@ -309,7 +310,7 @@ function fill(a: Attack, port: number): [string, string | Buffer] {
 }
 
 async function designs(store: Store): Promise<number> {
-  return (store.db.prepare('SELECT COUNT(*) AS n FROM designs').get() as { n: number }).n;
+  return (connectionOf(store).prepare('SELECT COUNT(*) AS n FROM designs').get() as { n: number }).n;
 }
 
 /** Every response, refused or not, carries the protective headers. */
@@ -482,11 +483,13 @@ describe('WebShell attack suite (access token required)', { timeout: 60_000 }, (
   });
 
   it('keeps only the hash of the token: its text is nowhere in the database files', async () => {
-    const row = r.store.db.prepare('SELECT hash FROM access_tokens WHERE revoked_at IS NULL').get() as {
+    const row = connectionOf(r.store)
+      .prepare('SELECT hash FROM access_tokens WHERE revoked_at IS NULL')
+      .get() as {
       hash: string;
     };
     assert.equal(row.hash, createHash('sha256').update(r.token!).digest('hex'));
-    r.store.db.pragma('wal_checkpoint(TRUNCATE)');
+    connectionOf(r.store).pragma('wal_checkpoint(TRUNCATE)');
     for (const f of [r.store.file, `${r.store.file}-wal`]) {
       if (!existsSync(f)) continue;
       assert.ok(!readFileSync(f).includes(Buffer.from(r.token!.slice(4))), `${f} holds the token in clear`);
@@ -585,5 +588,50 @@ describe('WebShell on a network address', { timeout: 60_000 }, () => {
       await stop();
       tmp.cleanup();
     }
+  });
+});
+
+describe('WebShell: a set-up refused as unsafe writes nothing', { timeout: 60_000 }, () => {
+  let r: Rig;
+  before(async () => (r = await rig(false)));
+  after(async () => r.stop());
+
+  const rows = () =>
+    Object.fromEntries(
+      ['designs', 'revisions', 'units', 'sessions'].map((t) => [
+        t,
+        (connectionOf(r.store).prepare(`SELECT COUNT(*) AS n FROM ${t}`).get() as { n: number }).n,
+      ]),
+    );
+  const start = (txPepDbm: number) => {
+    const body = JSON.stringify({
+      design: 'Wren SSB-20',
+      revision: 'A',
+      serial: 'WR20-0007',
+      receiver: { name: 'rx', source: 'sim', calibration: null, bandwidthHz: 500, maxInputDbm: 10 },
+      path: [{ kind: 'pad', db: 20 }],
+      carrierHz: 14.2e6,
+      toneHz: 1000,
+      txPepDbm,
+      trims: [{ key: 'A', label: 'R', unit: 'turns', min: 0, max: 10 }],
+    });
+    return rawRequest(
+      r.port,
+      `POST /api/call/startSession HTTP/1.1\nHost: 127.0.0.1:${r.port}\nOrigin: http://127.0.0.1:${r.port}\nSec-Fetch-Site: same-origin\nContent-Type: application/json\nContent-Length: ${Buffer.byteLength(body)}\nConnection: close`,
+      body,
+    );
+  };
+
+  it('refuses 50 dBm PEP through 20 dB into a receiver rated 10 dBm, with no design, revision, unit or session left', async () => {
+    const refused = await start(50);
+    const answer = JSON.parse(refused.body) as { ok: boolean; code?: string; message?: string };
+    assert.equal(answer.ok, false, refused.body);
+    assert.equal(answer.code, 'EUNSAFE');
+    assert.match(answer.message ?? '', /into the receiver/);
+    assert.deepEqual(rows(), { designs: 0, revisions: 0, units: 0, sessions: 0 });
+    // The same call at a safe level is accepted, so the refusal above was the safety check and not the shape.
+    const ok = await start(10);
+    assert.equal((JSON.parse(ok.body) as { ok: boolean }).ok, true, ok.body);
+    assert.deepEqual(rows(), { designs: 1, revisions: 1, units: 1, sessions: 1 });
   });
 });

@@ -3,7 +3,7 @@
 import { readFileSync } from 'node:fs';
 import { BenchError } from '../../../app/errors';
 import { STANDING_LABELS, VERIFY_CAUTION, ruleText } from '../../../app/limits';
-import { parseJsonText } from '../../records/bundle';
+import { parseJsonText } from '../../store/bundles';
 import { parseOptions, reportError, type Command } from './command';
 import { withRecords } from './records';
 

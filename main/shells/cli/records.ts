@@ -4,7 +4,7 @@ import { renameSync, rmSync, writeFileSync } from 'node:fs';
 import { dirname, basename, join } from 'node:path';
 import { BenchError } from '../../../app/errors';
 import { defaultDbPath } from '../../paths';
-import { Records } from '../../records/manage';
+import { Records } from '../../store/records';
 import { Service } from '../../service';
 import { Store } from '../../store/store';
 

@@ -2,7 +2,8 @@
 // per reading, the unit of each column in its header, times in UTC ISO 8601, numbers in full precision.
 import { toCsv, type CsvValue } from '../../app/csv';
 import { BenchError } from '../../app/errors';
-import type { Store } from '../store/store';
+import type { Store } from './store';
+import { connectionOf } from './connection';
 
 export interface CsvScope {
   designId?: string;
@@ -44,7 +45,7 @@ export function readingsCsv(
   if (scope.designId) store.getDesign(scope.designId);
   if (scope.unitId) store.getUnit(scope.unitId);
   if (scope.sessionId) store.getSession(scope.sessionId);
-  const rows = store.db
+  const rows = connectionOf(store)
     .prepare(
       `SELECT d.name AS design, r.name AS revision, u.serial, s.id AS session_id, s.started_at, s.operator,
               e.emission, x.uid, x.t_ms, x.role, x.freq_hz, x.raw, x.dbm_rx, x.dbm_dut, x.u_db, x.settled, x.kept,

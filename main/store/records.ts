@@ -3,16 +3,35 @@
 // Each write is one statement or one transaction; bad input throws BenchError naming the field.
 import { randomUUID } from 'node:crypto';
 import { EMISSIONS, type Emission, type SuppressionReference } from '../../app/analysis';
-import type { Design, Revision, Unit } from '../../app/api';
+import type { Design, PointRole, Revision, Unit } from '../../app/api';
 import type { LimitSetEntry, SheetSettings, UnitListing } from '../../app/api/records';
 import { BenchError } from '../../app/errors';
 import { DEFAULT_SHEET_LIMIT_SETS, PRESETS, isPresetId, validateLimitSet } from '../../app/limits';
-import type { Store } from '../store/store';
+import type { Store } from './store';
+import { connectionOf } from './connection';
 
 const now = () => new Date().toISOString();
 
 function isUniqueViolation(e: unknown): boolean {
   return e instanceof Error && /UNIQUE constraint failed/.test(e.message);
+}
+
+/** A kept reading with the calibration and path its stored correction was made with (JSON as stored). */
+export interface KeptRow {
+  id: number;
+  t_ms: number;
+  freq_hz: number;
+  role: PointRole;
+  dbm_dut: number;
+  u_db: number;
+  floor_limited: number;
+  overload: number;
+  settled: number;
+  trims_json: string;
+  note: string;
+  correction_id: number;
+  calibration_json: string;
+  path_json: string;
 }
 
 interface LimitRow {
@@ -30,7 +49,7 @@ export class Records {
   constructor(readonly store: Store) {}
 
   private get db() {
-    return this.store.db;
+    return connectionOf(this.store);
   }
 
   // ---- designs, revisions, units ---------------------------------------------------------------
@@ -306,5 +325,48 @@ export class Records {
       )
       .run(a.unitId, JSON.stringify(next.limitSetIds), next.reference, next.sessionId, next.notes, now());
     return this.sheetSettings(a.unitId);
+  }
+
+  // ---- what the results are computed from --------------------------------------------------------
+
+  /** A session's kept readings, oldest first, each with the correction it was stored with. */
+  keptWithCorrections(sessionId: string): KeptRow[] {
+    return this.db
+      .prepare(
+        `SELECT x.id, x.t_ms, x.freq_hz, x.role, x.dbm_dut, x.u_db, x.floor_limited, x.overload, x.settled,
+                x.trims_json, x.note, x.correction_id, c.calibration_json, c.path_json
+         FROM readings x JOIN corrections c ON c.id = x.correction_id
+         WHERE x.session_id = ? AND x.kept = 1 ORDER BY x.t_ms, x.id`,
+      )
+      .all(sessionId) as KeptRow[];
+  }
+
+  /** Sessions of a unit that kept at least one reading, newest first. */
+  sessionsWithKept(unitId: string): { id: string; startedAt: string; kept: number }[] {
+    return (
+      this.db
+        .prepare(
+          `SELECT s.id, s.started_at AS startedAt,
+                  (SELECT COUNT(*) FROM readings x WHERE x.session_id = s.id AND x.kept = 1) AS kept
+           FROM sessions s WHERE s.unit_id = ? ORDER BY s.started_at DESC, s.id`,
+        )
+        .all(unitId) as { id: string; startedAt: string; kept: number }[]
+    ).filter((r) => r.kept > 0);
+  }
+
+  /** A design's revisions, oldest first. */
+  revisionsOf(designId: string): { id: string; name: string; changes: string; createdAt: string }[] {
+    return this.db
+      .prepare(
+        'SELECT id, name, changes, created_at AS createdAt FROM revisions WHERE design_id = ? ORDER BY created_at, name',
+      )
+      .all(designId) as { id: string; name: string; changes: string; createdAt: string }[];
+  }
+
+  /** A revision's units by serial. */
+  unitsOf(revisionId: string): { id: string; serial: string }[] {
+    return this.db
+      .prepare('SELECT id, serial FROM units WHERE revision_id = ? ORDER BY serial')
+      .all(revisionId) as { id: string; serial: string }[];
   }
 }

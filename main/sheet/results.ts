@@ -8,14 +8,14 @@ import {
   type SessionFigures,
   type SuppressionReference,
 } from '../../app/analysis';
-import type { Design, PointRole, Revision, Session, TrimPositions, Unit } from '../../app/api';
+import type { Design, Revision, Session, TrimPositions, Unit } from '../../app/api';
 import { iaruR1Calibration, validateCalibration } from '../../app/calibration';
 import { isDbfsCalibration, validateDbfsCalibration } from '../../app/spectrum/dbfs';
 import { compareRevisions, type RevisionEntry } from '../../app/compare';
 import type { DesignComparison } from '../../app/api/records';
 import { analysePath, validatePath } from '../../app/path';
 import type { Store } from '../store/store';
-import { Records } from './manage';
+import { Records } from '../store/records';
 
 export interface SessionResult {
   session: Session;
@@ -28,23 +28,6 @@ export interface SessionResult {
   figures: SessionFigures;
   /** name and date of the calibration the readings were corrected with (null date: not stated) */
   calibration: { name: string; madeAt: string | null; uDb: number; isDefault: boolean };
-}
-
-interface KeptRow {
-  id: number;
-  t_ms: number;
-  freq_hz: number;
-  role: PointRole;
-  dbm_dut: number;
-  u_db: number;
-  floor_limited: number;
-  overload: number;
-  settled: number;
-  trims_json: string;
-  note: string;
-  correction_id: number;
-  calibration_json: string;
-  path_json: string;
 }
 
 interface CorrectionParts {
@@ -77,14 +60,7 @@ export function loadSessionResult(store: Store, sessionId: string): SessionResul
   const revision = store.getRevision(unit.revisionId);
   const design = store.getDesign(revision.designId);
   const emission = new Records(store).emission(sessionId);
-  const rows = store.db
-    .prepare(
-      `SELECT x.id, x.t_ms, x.freq_hz, x.role, x.dbm_dut, x.u_db, x.floor_limited, x.overload, x.settled,
-              x.trims_json, x.note, x.correction_id, c.calibration_json, c.path_json
-       FROM readings x JOIN corrections c ON c.id = x.correction_id
-       WHERE x.session_id = ? AND x.kept = 1 ORDER BY x.t_ms, x.id`,
-    )
-    .all(sessionId) as KeptRow[];
+  const rows = new Records(store).keptWithCorrections(sessionId);
   const parts = new Map<number, CorrectionParts>();
   const kept = rows.map((r) => {
     let p = parts.get(r.correction_id);
@@ -133,14 +109,7 @@ export function sessionsWithResults(
   store: Store,
   unitId: string,
 ): { id: string; startedAt: string; kept: number }[] {
-  return store.db
-    .prepare(
-      `SELECT s.id, s.started_at AS startedAt,
-              (SELECT COUNT(*) FROM readings x WHERE x.session_id = s.id AND x.kept = 1) AS kept
-       FROM sessions s WHERE s.unit_id = ? ORDER BY s.started_at DESC, s.id`,
-    )
-    .all(unitId)
-    .filter((r) => (r as { kept: number }).kept > 0) as { id: string; startedAt: string; kept: number }[];
+  return new Records(store).sessionsWithKept(unitId);
 }
 
 /** Every revision of a design (oldest first) with the figures of every session of every unit. */
@@ -150,15 +119,10 @@ export function compareDesign(
   reference: SuppressionReference,
 ): DesignComparison {
   const design = store.getDesign(designId);
-  const revisions = store.db
-    .prepare(
-      'SELECT id, name, changes, created_at AS createdAt FROM revisions WHERE design_id = ? ORDER BY created_at, name',
-    )
-    .all(designId) as { id: string; name: string; changes: string; createdAt: string }[];
+  const records = new Records(store);
+  const revisions = records.revisionsOf(designId);
   const entries: RevisionEntry[] = revisions.map((r) => {
-    const units = store.db
-      .prepare('SELECT id, serial FROM units WHERE revision_id = ? ORDER BY serial')
-      .all(r.id) as { id: string; serial: string }[];
+    const units = records.unitsOf(r.id);
     const sessions = units.flatMap((u) =>
       sessionsWithResults(store, u.id).map((s) => {
         const res = loadSessionResult(store, s.id);

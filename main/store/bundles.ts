@@ -19,7 +19,8 @@ import { BenchError } from '../../app/errors';
 import { PRESETS, validateLimitSet } from '../../app/limits';
 import { validatePath } from '../../app/path';
 import { benchErrorFromZod } from '../../app/zodissue';
-import type { Store } from '../store/store';
+import type { Store } from './store';
+import { connectionOf } from './connection';
 
 interface Rows {
   designs: { id: string; name: string; notes: string; created_at: string }[];
@@ -47,7 +48,7 @@ const byStr =
 
 /** Every design (or the one given) with everything under it, in a stable order. */
 export function exportBundle(store: Store, designId?: string): Bundle {
-  const db = store.db;
+  const db = connectionOf(store);
   const design = designId ? store.getDesign(designId) : null;
   const designs = (db.prepare('SELECT * FROM designs').all() as Rows['designs'])
     .filter((d) => !design || d.id === design.id)
@@ -288,7 +289,7 @@ export function validateBundle(input: unknown, store?: Store): Bundle {
     return seen;
   };
   const exists = (table: string, id: string) =>
-    !!store && !!store.db.prepare(`SELECT 1 FROM ${table} WHERE id = ?`).get(id);
+    !!store && !!connectionOf(store).prepare(`SELECT 1 FROM ${table} WHERE id = ?`).get(id);
   const designIds = unique(b.designs, 'designs', 'id');
   const revisionIds = unique(b.revisions, 'revisions', 'id');
   const unitIds = unique(b.units, 'units', 'id');
@@ -416,7 +417,7 @@ export function importBundle(store: Store, text: string): ImportSummary {
   // again gives the same bytes; zod keeps list order, so index i is the same record in both.
   const src = raw as Record<string, Record<string, unknown>[]>;
   const rawJson = (list: string, i: number, key: string) => JSON.stringify(src[list][i][key] ?? null);
-  const db = store.db;
+  const db = connectionOf(store);
   const sum: ImportSummary = { added: zero(), unchanged: zero(), keptLocal: [], matchedByName: [] };
   const designMap = new Map<string, string>();
   const revisionMap = new Map<string, string>();
