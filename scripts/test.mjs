@@ -36,6 +36,10 @@ if (built.status !== 0) {
   process.exit(1);
 }
 mkdirSync('test-artifacts', { recursive: true });
+// One seed for every property test (test/helpers/fuzz.ts): a fresh one each run unless FUZZ_SEED replays one.
+if (!process.env.FUZZ_SEED) process.env.FUZZ_SEED = String(Math.floor(Math.random() * 2 ** 31));
+const seedLine = `fuzz seed ${process.env.FUZZ_SEED} (replay this run's property tests: FUZZ_SEED=${process.env.FUZZ_SEED} npm test)`;
+console.log(seedLine);
 const args = ['--import', 'tsx', '--test', '--test-reporter=spec', '--test-concurrency=2', ...files];
 const child = spawn(process.execPath, args, { stdio: ['ignore', 'pipe', 'inherit'] });
 let pass = 0;
@@ -52,6 +56,7 @@ child.on('close', (code) => {
   fail = m('fail');
   skipped = m('skipped') + m('todo');
   if (code !== 0 && fail === 0) fail = 1;
+  console.log(seedLine);
   console.log(`${pass} passed, ${fail} failed${skipped ? `, ${skipped} skipped` : ''}`);
   process.exit(code === 0 && fail === 0 && pass > 0 ? 0 : 1);
 });

@@ -2,6 +2,7 @@ import { describe, it } from 'node:test';
 import assert from 'node:assert/strict';
 import fc from 'fast-check';
 import { bucketsToLine, decimateForChart, minMaxBuckets } from '../../app/decimate';
+import '../helpers/fuzz'; // FUZZ_SEED replays a run
 
 describe('decimate.minMaxBuckets()', () => {
   it('keeps a one-reading null among ten thousand readings', () => {

@@ -1,6 +1,22 @@
 // Test helpers for the property-based fuzz tests: what "a clear error" means, checked the same way everywhere.
 import assert from 'node:assert/strict';
+import fc from 'fast-check';
 import { BenchError, ERROR_CODES } from '../../app/errors';
+
+/**
+ * One seed for every property test of a run: FUZZ_SEED (an integer) replays a run exactly; `npm test` picks a
+ * fresh one when it is not set and prints it, so CI keeps finding new cases and any failure can be replayed.
+ * On a failure fast-check also prints the seed and the path of the shrunk case.
+ */
+export const FUZZ_SEED = ((): number | undefined => {
+  const text = process.env.FUZZ_SEED;
+  if (text === undefined || text === '') return undefined;
+  const seed = Number(text);
+  if (!Number.isSafeInteger(seed))
+    throw new Error(`FUZZ_SEED must be an integer (the seed a failed run printed), not "${text}"`);
+  return seed;
+})();
+if (FUZZ_SEED !== undefined) fc.configureGlobal({ ...fc.readConfigureGlobal(), seed: FUZZ_SEED });
 
 const CODES = new Set<string>(ERROR_CODES);
 

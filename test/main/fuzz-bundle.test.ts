@@ -239,8 +239,10 @@ describe('fuzz: bundle import', () => {
       }),
       { numRuns: RUNS },
     );
+    // Whether any random edit leaves a bundle valid is chance: the accepting path is held by the deterministic
+    // case above (the unedited bundle), so no assertion here depends on what the generator happened to make.
     t.diagnostic(`${merged} edited bundles merged soundly, ${refused} refused cleanly`);
-    assert.ok(merged > 0, 'no edited bundle was accepted: the edits never left one valid');
+    assert.equal(merged + refused, RUNS, 'every generated bundle was either merged or refused');
   });
 
   it('an edited bundle merged into the database it came from changes nothing there when refused', () => {
