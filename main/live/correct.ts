@@ -60,15 +60,20 @@ export class Corrector {
     const dbmDut = dbmRx + this.pathLossDb;
     const uDb = Math.sqrt(c.uDb ** 2 + this.stepUDb ** 2 + this.pathUDb ** 2);
     const nearFloor = this.opts.noiseFloorDbm !== undefined && dbmRx <= this.opts.noiseFloorDbm + 3;
-    const clampedLow = c.clamped && c.dbm <= this.lowestDbm(s.freqHz);
+    const { lowest, highest } = this.scaleEnds(s.freqHz);
+    // A reading at the bottom of the calibrated scale is a meter at rest (a floor: the level is at most this), one
+    // at its top a meter pegged (the level may be anything above): both are flagged, not quoted as measured.
+    const clampedLow = c.dbm <= lowest;
     const overload =
-      (c.clamped && !clampedLow) || (this.opts.overloadDbm !== undefined && dbmRx >= this.opts.overloadDbm);
+      (c.clamped && !clampedLow) ||
+      (dbmRx >= highest && !clampedLow) ||
+      (this.opts.overloadDbm !== undefined && dbmRx >= this.opts.overloadDbm);
     return { dbmRx, dbmDut, uDb, floorLimited: nearFloor || clampedLow, overload };
   }
 
-  private lowestDbm(freqHz: number): number {
+  private scaleEnds(freqHz: number): { lowest: number; highest: number } {
     const band =
       this.calibration.bands.find((b) => freqHz >= b.fromHz && freqHz < b.toHz) ?? this.calibration.bands[0];
-    return band.points[0].dbm;
+    return { lowest: band.points[0].dbm, highest: band.points[band.points.length - 1].dbm };
   }
 }

@@ -6,7 +6,7 @@ import type { SessionCallResults } from '../../app/api/session';
 import { RF_CAUTION } from '../../app/caution';
 import { validateCalibration } from '../../app/calibration';
 import { BenchError } from '../../app/errors';
-import { assertReceiverSafe, validatePath } from '../../app/path';
+import { analysePath, assertReceiverSafe, validatePath } from '../../app/path';
 import { LiveBench } from '../live/live';
 import { findDriver } from '../sources';
 import { sessionSeries } from '../store/series';
@@ -152,6 +152,12 @@ export class SessionCalls {
     await this.close();
     const tpl = session.receiver.template;
     const source = this.ctx.makeSource(session.receiver.source, tpl ? { template: tpl } : {});
+    source.declareSetup?.({
+      pathLossDb: analysePath(validatePath(session.path)).lossDb,
+      txPepDbm: session.txPepDbm,
+      carrierHz: session.carrierHz,
+      toneHz: session.toneHz,
+    });
     const last = store.readings(id, { limit: 1 })[0];
     // A real receiver is polled about 20 times a second: its meter cannot move faster, and the database
     // keeps every reading.

@@ -1,13 +1,14 @@
 // Runs in Node. The simulated bench as a level source: the default, so Nullbench runs with no hardware.
 import { BenchError } from '../../app/errors';
 import { SimBench } from '../sim/bench';
-import type { LevelSource, RawSample, SourceCaps, SourceDriver } from './types';
+import type { LevelSource, RawSample, SessionSetup, SourceCaps, SourceDriver } from './types';
 
 const CAPS: SourceCaps = { tune: true, trims: true, unbalance: true, simulated: true };
 
 export interface SimSpec {
   seed: number;
-  lossDb: number;
+  /** The pad between transmitter and receiver; unset: the session's declared path (50 dB without a session). */
+  lossDb?: number;
   virtualTime: boolean;
   carrierHz?: number;
   toneHz?: number;
@@ -18,7 +19,7 @@ export interface SimSpec {
 
 /** Parses "sim", "sim:seed=7", "sim:seed=7,loss=50,fast" (fast = virtual clock, no waiting). */
 export function parseSimSpec(spec: string): SimSpec {
-  const out: SimSpec = { seed: 1, lossDb: 50, virtualTime: false };
+  const out: SimSpec = { seed: 1, virtualTime: false };
   const rest = spec.trim().slice(3);
   if (rest === '') return out;
   if (!rest.startsWith(':'))
@@ -64,7 +65,7 @@ export class SimSource implements LevelSource {
 
   constructor(
     readonly spec: string,
-    opts: SimSpec,
+    private readonly opts: SimSpec,
   ) {
     this.bench = new SimBench({
       seed: opts.seed,
@@ -88,6 +89,21 @@ export class SimSource implements LevelSource {
   get noiseFloorDbm(): number {
     const rx = this.bench.rx;
     return Math.max(rx.noiseFloorDbm(), rx.cfg.s9Dbm + rx.cfg.meterMinDb);
+  }
+
+  /**
+   * Builds the simulated bench to the session's declaration: the board transmits the declared PEP on the
+   * declared carrier and tone, through a pad of the declared path's loss. What the spec states wins (a spec's
+   * loss=60 under a 50 dB declaration simulates a wrong pad declaration).
+   */
+  declareSetup(setup: SessionSetup): void {
+    const o = this.opts;
+    const cfg = this.bench.tx.cfg;
+    if (o.lossDb === undefined) this.bench.pathLossDb = setup.pathLossDb;
+    if (o.pepDbm === undefined) cfg.pepDbm = setup.txPepDbm;
+    if (!o.carrierHz) cfg.carrierHz = setup.carrierHz;
+    if (!o.toneHz) cfg.toneHz = setup.toneHz;
+    this.bench.rx.tune(cfg.carrierHz);
   }
 
   async open(): Promise<void> {}

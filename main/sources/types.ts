@@ -34,6 +34,14 @@ export interface SourceEnv {
   template?: unknown;
 }
 
+/** What a session declares about the set-up, nominal values (the path's loss from its elements). */
+export interface SessionSetup {
+  pathLossDb: number;
+  txPepDbm: number;
+  carrierHz: number;
+  toneHz: number;
+}
+
 export interface LevelSource {
   readonly kind: string;
   readonly spec: string;
@@ -48,6 +56,8 @@ export interface LevelSource {
   read(): Promise<RawSample>;
   setTrims?(trims: Record<string, number>): Promise<void>;
   setUnbalanced?(on: boolean): Promise<void>;
+  /** A simulated source builds its bench to what the session declares; real receivers have no such call. */
+  declareSetup?(setup: SessionSetup): void;
   /** The source's clock, ms since the epoch. */
   now(): number;
   /** Waits ms on the source's clock (instant on a virtual clock). */

@@ -3,6 +3,11 @@ import assert from 'node:assert/strict';
 import { BenchError } from '../../app/errors';
 import { serviceWithSession } from '../helpers/session';
 
+const COUPLER_AND_PAD = [
+  { kind: 'coupler', couplingDb: 30 },
+  { kind: 'pad', db: 10 },
+];
+
 describe('Service', () => {
   it('refuses a set-up whose receiver input at PEP exceeds the rated maximum (EUNSAFE), and stores nothing', async () => {
     const t = await serviceWithSession();
@@ -80,6 +85,36 @@ describe('Service', () => {
       assert.ok(r.kept && r.settled);
     } finally {
       await t.cleanup();
+    }
+  });
+
+  it('builds the simulated bench to the declared PEP and path, and a spec that overrides the pad shows it', async () => {
+    // 27 dBm (0.5 W) PEP DSB through a 30 dB coupler and a 10 dB pad: each sideband 27 - 6.02 = 20.98 dBm at the transmitter
+    // (docs/references.md § Modulation and power: PEP = 4 x one tone). The bench must transmit what is declared.
+    const declared = await serviceWithSession({ txPepDbm: 27, path: COUPLER_AND_PAD });
+    try {
+      await declared.service.invoke('openSession', { sessionId: declared.session.id });
+      await declared.service.invoke('tune', { role: 'upper' });
+      const r = await declared.service.invoke('keep', { note: '', waitSettled: true });
+      assert.equal(r.dbmDut, r.dbmRx + 40);
+      assert.ok(Math.abs(r.dbmDut - 20.98) <= 1.0, `upper tone ${r.dbmDut} dBm, declared 20.98`);
+    } finally {
+      await declared.cleanup();
+    }
+    // The spec states 50 dB of loss under the same 40 dB declaration: a wrong declaration, simulated. The
+    // corrected figure is then 10 dB low, as it would be on a real bench with the wrong pad typed in.
+    const wrong = await serviceWithSession({
+      txPepDbm: 27,
+      path: COUPLER_AND_PAD,
+      source: 'sim:seed=5,loss=50',
+    });
+    try {
+      await wrong.service.invoke('openSession', { sessionId: wrong.session.id });
+      await wrong.service.invoke('tune', { role: 'upper' });
+      const r = await wrong.service.invoke('keep', { note: '', waitSettled: true });
+      assert.ok(Math.abs(r.dbmDut - (20.98 - 10)) <= 1.0, `upper tone ${r.dbmDut} dBm under a wrong pad`);
+    } finally {
+      await wrong.cleanup();
     }
   });
 
