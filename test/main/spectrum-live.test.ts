@@ -24,6 +24,26 @@ function nextFrame(
 }
 
 describe('Service spectrumStart/spectrumKeep (iqsim)', () => {
+  it('flags every kept line as overload when the declared 30 W clips the SDR, instead of quoting them', async () => {
+    // 44.77 dBm PEP through 50 dB: the SDR's 8-bit samples clip, so its levels are low and must not be quoted.
+    const ctx = await serviceWithSession({ fast: false, txPepDbm: 10 * Math.log10(30_000) });
+    const { service } = ctx;
+    try {
+      await service.invoke('openSession', { sessionId: ctx.session.id });
+      await service.invoke('spectrumStart', { source: 'iqsim' });
+      await nextFrame((cb) => service.listen('spectrum', cb), 2);
+      const kept = await service.invoke('spectrumKeep', { note: 'too hot' });
+      assert.equal(kept.length, 7);
+      assert.ok(
+        kept.every((r) => r.overload),
+        kept.map((r) => `${r.role} ${r.dbmDut.toFixed(1)} dBm overload=${r.overload}`).join('; '),
+      );
+      await service.invoke('spectrumStop', {});
+    } finally {
+      await ctx.cleanup();
+    }
+  });
+
   it("measures the simulated transmitter's carrier suppression within 0.5 dB as its trimmers move", async () => {
     const ctx = await serviceWithSession({ fast: false });
     const { service } = ctx;
