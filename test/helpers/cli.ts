@@ -15,6 +15,7 @@ export function runBin(argv: string[], env: Record<string, string> = {}) {
     encoding: 'utf8',
     env: { ...process.env, ...env },
     timeout: 120_000,
+    maxBuffer: 256 * 1024 * 1024, // a whole bundle on standard output
   });
   return { code: r.status ?? -1, out: r.stdout, err: r.stderr };
 }

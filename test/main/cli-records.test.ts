@@ -2,7 +2,7 @@
 // import.
 import { describe, it } from 'node:test';
 import assert from 'node:assert/strict';
-import { readFileSync, writeFileSync } from 'node:fs';
+import { existsSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import Database from 'better-sqlite3';
 import { runBin, runCli } from '../helpers/cli';
@@ -237,6 +237,12 @@ describe('nullbench records commands', () => {
         e.out,
         /Bundle written to .*heron\.json: 1 designs, 2 revisions, 6 units, 6 sessions, \d+ readings/,
       );
+      // --out - writes the same bytes to standard output (the summary to stderr), and no file named "-".
+      const piped = runBin(['export', '--db', d.file, '--out', '-', '--design', 'Heron DSB-40']);
+      assert.equal(piped.code, 0, piped.err);
+      assert.equal(piped.out, readFileSync(bundle, 'utf8'));
+      assert.match(piped.err, /Bundle written to standard output: 1 designs/);
+      assert.equal(existsSync('-'), false);
       const other = join(d.dir, 'other.db');
       const i1 = runBin(['import', '--db', other, bundle]);
       assert.equal(i1.code, 0, i1.err);

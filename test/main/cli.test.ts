@@ -1,7 +1,8 @@
 import { describe, it } from 'node:test';
 import assert from 'node:assert/strict';
 import { join } from 'node:path';
-import { existsSync } from 'node:fs';
+import { existsSync, readFileSync } from 'node:fs';
+import { spawnSync } from 'node:child_process';
 import Database from 'better-sqlite3';
 import { runBin, runCli } from '../helpers/cli';
 import { tempDir } from '../helpers/tmp';
@@ -11,6 +12,48 @@ describe('nullbench CLI', () => {
     const r = await runCli(['--help']);
     assert.equal(r.code, 0);
     for (const c of ['read', 'serve', 'demo']) assert.match(r.out, new RegExp(`\\n  ${c}\\s`));
+  });
+
+  it('states its version from package.json on -V and --version; no command is a usage error on stderr', async () => {
+    const { version } = JSON.parse(readFileSync('package.json', 'utf8')) as { version: string };
+    for (const flag of ['-V', '--version']) {
+      const r = await runCli([flag]);
+      assert.deepEqual([r.code, r.out, r.err], [0, `nullbench ${version}\n`, ''], flag);
+    }
+    const none = await runCli([]);
+    assert.deepEqual([none.code, none.out], [2, '']);
+    assert.match(none.err, /Usage: nullbench COMMAND/);
+  });
+
+  it('ends quietly when the reader of its output goes away (read | head -1), and log ends its session', () => {
+    const sh = (cmd: string) =>
+      spawnSync('bash', ['-o', 'pipefail', '-c', cmd], { encoding: 'utf8', timeout: 120_000 });
+    const read = sh(`"${process.execPath}" bin/nullbench.js read --count 5000 | head -1`);
+    assert.equal(read.status, 0, read.stderr);
+    assert.doesNotMatch(read.stderr, /EPIPE|Error|at /);
+    assert.match(read.stdout, /dBm at rx/);
+    const t = tempDir();
+    try {
+      const db = join(t.dir, 'pipe.db');
+      const log = sh(
+        `"${process.execPath}" bin/nullbench.js log --db "${db}" --tx-pep-dbm 30 --max-input-dbm 10 --path coupler:30,pad:20 --for-s 60 | head -2`,
+      );
+      assert.equal(log.status, 0, log.stderr);
+      assert.doesNotMatch(log.stderr, /EPIPE|Error/);
+      assert.equal(log.stdout.trim().split('\n').length, 2);
+      const d = new Database(db, { readonly: true });
+      try {
+        const s = d.prepare('SELECT ended_at FROM sessions').all() as { ended_at: string | null }[];
+        assert.equal(s.length, 1);
+        assert.ok(s[0].ended_at, 'the session was ended when the pipe closed');
+        const n = (d.prepare('SELECT COUNT(*) AS n FROM readings').get() as { n: number }).n;
+        assert.ok(n >= 2, `every printed reading is stored (${n})`);
+      } finally {
+        d.close();
+      }
+    } finally {
+      t.cleanup();
+    }
   });
 
   it('prints --help for every command', async () => {

@@ -1,4 +1,5 @@
 // Runs in Node. The command-line shell: one explicit list of commands, one line each.
+import { version } from '../../../package.json';
 import type { Command, Io } from './command';
 import { compareCommand } from './compare';
 import { addCommand, editCommand } from './edit';
@@ -49,12 +50,17 @@ export function usage(): string {
 
 export async function main(argv: string[], io: Io): Promise<number> {
   const [name, ...rest] = argv;
-  if (!name || name === '--help' || name === '-h' || name === 'help') {
-    io.out(usage());
-    return name ? 0 : 2;
+  if (!name) {
+    // No command is a usage error: the text goes to stderr, so a script's output stays clean.
+    io.err(usage());
+    return 2;
   }
-  if (name === '--version') {
-    io.out('nullbench 0.1.0\n');
+  if (name === '--help' || name === '-h' || name === 'help') {
+    io.out(usage());
+    return 0;
+  }
+  if (name === '--version' || name === '-V') {
+    io.out(`nullbench ${version}\n`);
     return 0;
   }
   const cmd = COMMANDS.find((c) => c.name === name);

@@ -12,7 +12,7 @@ export const exportCommand: Command = {
   usage: `nullbench export --out FILE [--design NAME] [--csv [--unit SERIAL | --session ID]] [--db FILE]
 
 Options:
-  --out FILE        where to write (the file is written whole or not at all)
+  --out FILE        where to write (the file is written whole or not at all); - writes to standard output
   --design NAME     only this design and everything under it
   --csv             the readings as CSV (RFC 4180, one row per reading, units in the header)
   --unit SERIAL     with --csv: only this unit's readings
@@ -47,16 +47,26 @@ Options:
           const unitId =
             values.unit !== undefined ? records.unitBySerial(values.unit.trim(), '--unit').id : undefined;
           const r = await service.invoke('exportCsv', { designId, unitId, sessionId: values.session });
-          writeWhole(values.out!, r.csv);
-          io.out(`${r.rows} readings written to ${values.out}\n`);
+          if (values.out === '-') {
+            io.out(r.csv);
+            io.err(`${r.rows} readings written to standard output\n`);
+          } else {
+            writeWhole(values.out!, r.csv);
+            io.out(`${r.rows} readings written to ${values.out}\n`);
+          }
         } else {
           const r = await service.invoke('exportBundle', { designId });
-          writeWhole(values.out!, r.json);
-          io.out(
-            `Bundle written to ${values.out}: ${Object.entries(r.counts)
-              .map(([k, n]) => `${n} ${k}`)
-              .join(', ')}\n`,
-          );
+          const counts = Object.entries(r.counts)
+            .map(([k, n]) => `${n} ${k}`)
+            .join(', ');
+          // With --out - the bundle is the output and the summary goes to stderr, so a pipe gets pure JSON.
+          if (values.out === '-') {
+            io.out(r.json);
+            io.err(`Bundle written to standard output: ${counts}\n`);
+          } else {
+            writeWhole(values.out!, r.json);
+            io.out(`Bundle written to ${values.out}: ${counts}\n`);
+          }
         }
       });
       return 0;
