@@ -19,7 +19,7 @@ import { BenchError } from '../../app/errors';
 import { PRESETS, validateLimitSet } from '../../app/limits';
 import { validatePath } from '../../app/path';
 import { benchErrorFromZod } from '../../app/zodissue';
-import type { Store } from './store';
+import { rowToReading, type ReadingRow, type Store } from './store';
 import { connectionOf } from './connection';
 
 interface Rows {
@@ -179,24 +179,12 @@ export function exportBundle(store: Store, designId?: string): Bundle {
       calibration: JSON.parse(c.calibration_json),
       path: JSON.parse(c.path_json),
     })),
-    readings: readingRows.map((r) => ({
-      uid: r.uid,
-      sessionId: r.session_id,
-      t: r.t_ms,
-      freqHz: r.freq_hz,
-      role: r.role,
-      raw: r.raw,
-      dbmRx: r.dbm_rx,
-      dbmDut: r.dbm_dut,
-      uDb: r.u_db,
-      settled: r.settled === 1,
-      kept: r.kept === 1,
-      floorLimited: r.floor_limited === 1,
-      overload: r.overload === 1,
-      trims: JSON.parse(r.trims_json as string),
-      correction: r.digest,
-      note: r.note,
-    })),
+    readings: readingRows.map((row) => {
+      // The bundle's reading is the store's, keyed by its stable uid instead of the row id, with its correction.
+      const r = row as unknown as ReadingRow & { uid: string; digest: string };
+      const { id: _id, note, ...rest } = rowToReading(r);
+      return { uid: r.uid, ...rest, correction: r.digest, note };
+    }),
     gaps: gaps.map((g) => ({
       sessionId: g.session_id,
       tStartMs: g.t_start_ms,

@@ -36,7 +36,8 @@ export interface NewSession {
 
 export type { NewReading } from '../live/sink';
 
-interface ReadingRow {
+/** A row of the readings table as SQLite returns it. */
+export interface ReadingRow {
   id: number;
   session_id: string;
   t_ms: number;
@@ -72,7 +73,8 @@ interface SessionRow {
 
 const now = () => new Date().toISOString();
 
-function rowToReading(r: ReadingRow): Reading {
+/** The one mapper from a readings row to a Reading. */
+export function rowToReading(r: ReadingRow): Reading {
   return {
     id: r.id,
     sessionId: r.session_id,
