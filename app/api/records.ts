@@ -6,7 +6,7 @@ import { EMISSIONS, SUPPRESSION_REFERENCES, type Emission, type SessionFigures }
 import type { ImportSummary } from '../bundle';
 import type { Comparison } from '../compare';
 import type { LimitSet, SetOutcome, Standing, Verdict } from '../limits';
-import type { Design, Reading, Revision, Unit } from './schemas';
+import { BuildDate, type Design, type Reading, type Revision, type Unit } from './schemas';
 
 const Id = z.string().min(1).max(64);
 const Name = z.string().trim().min(1, 'must not be empty').max(120);
@@ -20,7 +20,7 @@ export const RECORD_CALLS = {
   updateUnit: z.object({
     unitId: Id,
     serial: z.string().trim().min(1, 'must not be empty').max(60).optional(),
-    buildDate: z.string().max(40).optional(),
+    buildDate: BuildDate.optional(),
     builder: z.string().max(120).optional(),
     notes: Text.optional(),
     /** move the unit to another revision of the same design */

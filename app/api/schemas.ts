@@ -108,10 +108,27 @@ export type ReceiverProfile = z.infer<typeof ReceiverProfileSchema>;
 
 export const DesignInputSchema = z.object({ name: Name, notes: Text.default('') });
 export const RevisionInputSchema = z.object({ designId: Id, name: Name, changes: Text.default('') });
+/** A real calendar day written YYYY-MM-DD (ISO 8601): 2026-13-45 and 2026-02-30 are refused. */
+export function isCalendarDate(text: string): boolean {
+  if (!/^\d{4}-\d{2}-\d{2}$/.test(text)) return false;
+  const t = Date.parse(`${text}T00:00:00Z`);
+  return Number.isFinite(t) && new Date(t).toISOString().slice(0, 10) === text;
+}
+
+/** When a unit was built: empty, or a calendar day. */
+export const BuildDate = z
+  .string()
+  .trim()
+  .max(40)
+  .refine(
+    (s) => s === '' || isCalendarDate(s),
+    'must be a date written YYYY-MM-DD (e.g. 2026-03-14), or empty',
+  );
+
 export const UnitInputSchema = z.object({
   revisionId: Id,
   serial: z.string().trim().min(1).max(60),
-  buildDate: z.string().max(40).default(''),
+  buildDate: BuildDate.default(''),
   builder: z.string().max(120).default(''),
   notes: Text.default(''),
 });

@@ -7,6 +7,7 @@ import { join } from 'node:path';
 import Database from 'better-sqlite3';
 import { runBin, runCli } from '../helpers/cli';
 import { demoDb } from '../helpers/demo';
+import { tempDir } from '../helpers/tmp';
 
 const count = (file: string, table: string) => {
   const db = new Database(file, { readonly: true });
@@ -51,6 +52,49 @@ describe('nullbench records commands', () => {
       assert.match(bad.err, /--design: no design "Kestrel" \(there is "Heron DSB-40"\)/);
     } finally {
       d.cleanup();
+    }
+  });
+
+  it('add refuses an impossible build date by its option, before writing anything (not even the file)', async () => {
+    const t = tempDir();
+    try {
+      const db = join(t.dir, 'dates.db');
+      for (const bad of ['2026-13-45', '2026-02-30', '14.03.2026']) {
+        const r = await runCli([
+          'add',
+          '--db',
+          db,
+          '--design',
+          'Kite',
+          '--revision',
+          'A',
+          '--unit',
+          'K-1',
+          '--build-date',
+          bad,
+        ]);
+        assert.equal(r.code, 2, bad);
+        assert.match(r.err, /--build-date: must be a date written YYYY-MM-DD/, bad);
+        assert.equal(existsSync(db), false, `${bad}: the database was created`);
+      }
+      // 2028 is a leap year (Gregorian calendar): its 29 February is a real day.
+      const ok = await runCli([
+        'add',
+        '--db',
+        db,
+        '--design',
+        'Kite',
+        '--revision',
+        'A',
+        '--unit',
+        'K-1',
+        '--build-date',
+        '2028-02-29',
+      ]);
+      assert.equal(ok.code, 0, ok.err);
+      assert.match(ok.out, /added design "Kite"; added revision A; added unit K-1/);
+    } finally {
+      t.cleanup();
     }
   });
 

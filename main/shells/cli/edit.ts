@@ -1,6 +1,7 @@
 // Runs in Node. `nullbench add` and `nullbench edit`: keep the records of designs, revisions and units from
 // the command line (create what is missing; rename, note what changed on a board, correct a unit's details).
 import { EMISSIONS, type Emission } from '../../../app/analysis';
+import { DesignInputSchema, RevisionInputSchema, UnitInputSchema } from '../../../app/api/schemas';
 import { BenchError } from '../../../app/errors';
 import { parseOptions, reportError, type Command } from './command';
 import { withRecords } from './records';
@@ -43,6 +44,37 @@ Options:
       if (!values.design) throw new BenchError('EINVAL', 'is required', '--design');
       if (values.unit !== undefined && values.revision === undefined)
         throw new BenchError('EINVAL', 'a unit needs its revision: give --revision too', '--unit');
+      // Every value is checked before anything is written, so a bad --build-date adds no design or revision.
+      checkAll([
+        [
+          DesignInputSchema,
+          { name: values.design, notes: values.notes },
+          { name: '--design', notes: '--notes' },
+        ],
+        ...(values.revision !== undefined
+          ? [
+              [
+                RevisionInputSchema.omit({ designId: true }),
+                { name: values.revision, changes: values.changes },
+                { name: '--revision', changes: '--changes' },
+              ] as const,
+            ]
+          : []),
+        ...(values.unit !== undefined
+          ? [
+              [
+                UnitInputSchema.omit({ revisionId: true }),
+                {
+                  serial: values.unit,
+                  buildDate: values['build-date'],
+                  builder: values.builder,
+                  notes: values['unit-notes'],
+                },
+                { serial: '--unit', buildDate: '--build-date', builder: '--builder', notes: '--unit-notes' },
+              ] as const,
+            ]
+          : []),
+      ]);
       await withRecords(values.db, async ({ store, service }) => {
         const said: string[] = [];
         let d = store.tree().find((x) => x.name === values.design!.trim());
@@ -244,3 +276,26 @@ Targets (one):
     }
   },
 };
+
+/** Parses each group of option values with its call's schema; the first bad one is refused by its option name. */
+function checkAll(
+  groups: readonly (readonly [
+    {
+      safeParse(v: unknown): {
+        success: boolean;
+        error?: { issues: { path: PropertyKey[]; message: string }[] };
+      };
+    },
+    Record<string, string | undefined>,
+    Record<string, string>,
+  ])[],
+): void {
+  for (const [schema, input, options] of groups) {
+    const r = schema.safeParse(input);
+    if (!r.success) {
+      const issue = r.error!.issues[0];
+      const key = String(issue.path[0] ?? '');
+      throw new BenchError('EINVAL', issue.message, options[key] ?? key);
+    }
+  }
+}
