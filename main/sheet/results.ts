@@ -59,8 +59,9 @@ export function loadSessionResult(store: Store, sessionId: string): SessionResul
   const unit = store.getUnit(session.unitId);
   const revision = store.getRevision(unit.revisionId);
   const design = store.getDesign(revision.designId);
-  const emission = new Records(store).emission(sessionId);
-  const rows = new Records(store).keptWithCorrections(sessionId);
+  const records = new Records(store);
+  const emission = records.emission(sessionId);
+  const rows = records.keptWithCorrections(sessionId);
   const parts = new Map<number, CorrectionParts>();
   const kept = rows.map((r) => {
     let p = parts.get(r.correction_id);

@@ -21,6 +21,7 @@ import { validatePath } from '../../app/path';
 import { benchErrorFromZod } from '../../app/zodissue';
 import { rowToReading, type ReadingRow, type Store } from './store';
 import { connectionOf } from './connection';
+import type { LimitRow } from './records';
 
 interface Rows {
   designs: { id: string; name: string; notes: string; created_at: string }[];
@@ -124,18 +125,7 @@ export function exportBundle(store: Store, designId?: string): Bundle {
     .filter((s) => uIds.has(s.unit_id))
     .sort(byStr((s) => s.unit_id));
   // The user's limit sets travel with every bundle: they are small and the sheets refer to them.
-  const limitSets = (
-    db.prepare('SELECT * FROM limit_sets').all() as {
-      id: string;
-      name: string;
-      source: string;
-      standing: string;
-      notes: string;
-      rules_json: string;
-      created_at: string;
-      updated_at: string;
-    }[]
-  ).sort(byStr((l) => l.id));
+  const limitSets = (db.prepare('SELECT * FROM limit_sets').all() as LimitRow[]).sort(byStr((l) => l.id));
 
   const bundle = {
     format: BUNDLE_FORMAT,

@@ -34,7 +34,8 @@ export interface KeptRow {
   path_json: string;
 }
 
-interface LimitRow {
+/** A row of the limit_sets table. */
+export interface LimitRow {
   id: string;
   name: string;
   source: string;

@@ -59,8 +59,8 @@ describe('nullbench records commands', () => {
     const t = tempDir();
     try {
       const db = join(t.dir, 'dates.db');
-      for (const bad of ['2026-13-45', '2026-02-30', '14.03.2026']) {
-        const r = await runCli([
+      const add = (date: string) =>
+        runCli([
           'add',
           '--db',
           db,
@@ -71,26 +71,16 @@ describe('nullbench records commands', () => {
           '--unit',
           'K-1',
           '--build-date',
-          bad,
+          date,
         ]);
+      for (const bad of ['2026-13-45', '2026-02-30', '14.03.2026']) {
+        const r = await add(bad);
         assert.equal(r.code, 2, bad);
         assert.match(r.err, /--build-date: must be a date written YYYY-MM-DD/, bad);
         assert.equal(existsSync(db), false, `${bad}: the database was created`);
       }
       // 2028 is a leap year (Gregorian calendar): its 29 February is a real day.
-      const ok = await runCli([
-        'add',
-        '--db',
-        db,
-        '--design',
-        'Kite',
-        '--revision',
-        'A',
-        '--unit',
-        'K-1',
-        '--build-date',
-        '2028-02-29',
-      ]);
+      const ok = await add('2028-02-29');
       assert.equal(ok.code, 0, ok.err);
       assert.match(ok.out, /added design "Kite"; added revision A; added unit K-1/);
     } finally {

@@ -1,6 +1,7 @@
 // Runs in Node. `nullbench add` and `nullbench edit`: keep the records of designs, revisions and units from
 // the command line (create what is missing; rename, note what changed on a board, correct a unit's details).
 import { EMISSIONS, type Emission } from '../../../app/analysis';
+import type { z } from 'zod';
 import { DesignInputSchema, RevisionInputSchema, UnitInputSchema } from '../../../app/api/schemas';
 import { BenchError } from '../../../app/errors';
 import { parseOptions, reportError, type Command } from './command';
@@ -279,21 +280,12 @@ Targets (one):
 
 /** Parses each group of option values with its call's schema; the first bad one is refused by its option name. */
 function checkAll(
-  groups: readonly (readonly [
-    {
-      safeParse(v: unknown): {
-        success: boolean;
-        error?: { issues: { path: PropertyKey[]; message: string }[] };
-      };
-    },
-    Record<string, string | undefined>,
-    Record<string, string>,
-  ])[],
+  groups: readonly (readonly [z.ZodType, Record<string, string | undefined>, Record<string, string>])[],
 ): void {
   for (const [schema, input, options] of groups) {
     const r = schema.safeParse(input);
     if (!r.success) {
-      const issue = r.error!.issues[0];
+      const issue = r.error.issues[0];
       const key = String(issue.path[0] ?? '');
       throw new BenchError('EINVAL', issue.message, options[key] ?? key);
     }
