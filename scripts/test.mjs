@@ -1,18 +1,23 @@
-// Runs in Node. The one test command: every test file under test/ (or one group: unit, main, e2e)
-// through node's built-in runner with tsx, then a plain closing line "N passed, N failed".
+// Runs in Node. The one test command: every test file under test/ (or one group: unit, main, e2e, or test files
+// and folders named by path) through node's built-in runner with tsx, then a plain closing line "N passed, N failed".
 import { spawn, spawnSync } from 'node:child_process';
-import { readdirSync, statSync, mkdirSync } from 'node:fs';
+import { existsSync, readdirSync, statSync, mkdirSync } from 'node:fs';
 import { join } from 'node:path';
 
 const groups = { unit: ['test/app'], main: ['test/main'], e2e: ['test/e2e'] };
-const want = process.argv[2];
-const roots = want ? groups[want] : ['test/app', 'test/main', 'test/e2e'];
-if (!roots) {
-  console.error(`unknown test group "${want}"; use one of: ${Object.keys(groups).join(', ')}`);
+const wants = process.argv.slice(2);
+const isPath = (w) => w.startsWith('test/') && existsSync(w);
+const unknown = wants.find((w) => !groups[w] && !isPath(w));
+if (unknown) {
+  console.error(
+    `unknown test group or path "${unknown}"; use one of: ${Object.keys(groups).join(', ')}, or a path under test/`,
+  );
   process.exit(2);
 }
+const roots = wants.length ? wants.flatMap((w) => groups[w] ?? [w]) : ['test/app', 'test/main', 'test/e2e'];
 
 function walk(dir) {
+  if (dir.endsWith('.test.ts')) return [dir];
   let out = [];
   let names = [];
   try {

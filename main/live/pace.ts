@@ -6,12 +6,24 @@ import type { LevelSource, RawSample } from '../sources/types';
 /** Highest rate a logger may ask for, readings/s: beyond it every link we drive is the limit anyway. */
 export const MAX_RATE_HZ = 1000;
 
+/** The clock a paced source waits on: the wall clock unless a test passes its own. */
+export interface PaceClock {
+  now(): number;
+  wait(ms: number): Promise<void>;
+}
+
+const WALL: PaceClock = {
+  now: () => Date.now(),
+  wait: (ms) => new Promise((r) => setTimeout(r, ms)),
+};
+
 /**
  * Wraps a source so successive read() calls start at least 1/rateHz seconds apart on the wall clock.
  * A slow receiver is not hurried and a stall is not made up with a burst afterwards.
  * @param rateHz readings per second, 0 < rateHz <= MAX_RATE_HZ
+ * @param clock the clock to wait on (the wall clock by default)
  */
-export function pacedSource(inner: LevelSource, rateHz: number): LevelSource {
+export function pacedSource(inner: LevelSource, rateHz: number, clock: PaceClock = WALL): LevelSource {
   finiteIn(rateHz, 'rateHz', Number.MIN_VALUE, MAX_RATE_HZ, 'readings/s');
   const periodMs = 1000 / rateHz;
   let next = 0;
@@ -29,9 +41,9 @@ export function pacedSource(inner: LevelSource, rateHz: number): LevelSource {
     close: () => inner.close(),
     setFrequency: (hz) => inner.setFrequency(hz),
     async read(): Promise<RawSample> {
-      const wait = next - Date.now();
-      if (wait > 0) await new Promise((r) => setTimeout(r, wait));
-      next = Math.max(next, Date.now()) + periodMs;
+      const wait = next - clock.now();
+      if (wait > 0) await clock.wait(wait);
+      next = Math.max(next, clock.now()) + periodMs;
       return inner.read();
     },
     now: () => inner.now(),

@@ -77,7 +77,7 @@ describe('web mode, end to end', () => {
   it('keeps a reading at a typed trimmer position', async () => {
     await page.fill('#trim-A', '3');
     await page.press('#trim-A', 'Enter');
-    await page.locator('#settle.steady').waitFor({ timeout: 15000 });
+    await page.locator('#settle.steady').waitFor({ timeout: 60000 });
     await page.click('#keep');
     await page.locator('#kept-rows tr').first().waitFor();
     assert.match(await page.locator('#kept-rows tr').first().innerText(), /Carrier\s+3\b/);
@@ -120,10 +120,10 @@ describe('web mode, end to end', () => {
 
   it('shows the carrier in dBc once the tones are kept', async () => {
     await page.click('[data-role=upper]');
-    await page.locator('#settle.steady').waitFor({ timeout: 15000 });
+    await page.locator('#settle.steady').waitFor({ timeout: 60000 });
     await page.click('#keep');
     await page.click('[data-role=carrier]');
-    await page.locator('#level-dbc').filter({ hasText: 'dBc' }).waitFor({ timeout: 15000 });
+    await page.locator('#level-dbc').filter({ hasText: 'dBc' }).waitFor({ timeout: 60000 });
     assert.match(await page.locator('#level-dbc').innerText(), /^[−+]\d+\.\d dB rel\. upper tone \(dBc\)$/);
     await page.screenshot({ path: shot('e2e-04-dbc') });
   });

@@ -84,7 +84,7 @@ describe('guided alignment, end to end', () => {
     assert.match(text, /looking over the travel/);
     // A new session starts mid-travel, where the survey begins: the first step is already done.
     assert.match(text, /leave A and B where they are/);
-    await page.locator('#guide-card[data-due="3"]').waitFor({ timeout: 20000 });
+    await page.locator('#guide-card[data-due="3"]').waitFor({ timeout: 60000 });
     assert.match(await page.locator('#guide-steps li.now').innerText(), /Keep the reading/);
     await page.screenshot({ path: shot('guide-01-first-suggestion'), fullPage: true });
   });
@@ -108,12 +108,12 @@ describe('guided alignment, end to end', () => {
           await page.press(`#trim-${k}`, 'Enter');
         }
       }
-      await page.locator('#guide-card[data-due="3"]').waitFor({ timeout: 20000 });
+      await page.locator('#guide-card[data-due="3"]').waitFor({ timeout: 60000 });
       await page.click('#guide-keep');
       await page.waitForFunction(
         (before) => document.querySelector('#guide-state')?.textContent !== before,
         state,
-        { timeout: 20000 },
+        { timeout: 60000 },
       );
       if (readings === 8) await page.screenshot({ path: shot('guide-02-narrowing'), fullPage: true });
       if (!sawPair && (await page.locator('.guide-pair').count()) > 0) {
@@ -144,9 +144,9 @@ describe('guided alignment, end to end', () => {
         await page.fill(`#trim-${k}`, String(leave[k]));
         await page.press(`#trim-${k}`, 'Enter');
       }
-      await page.locator('#guide-stop').filter({ hasText: 'Leave A at' }).waitFor({ timeout: 10000 });
+      await page.locator('#guide-stop').filter({ hasText: 'Leave A at' }).waitFor({ timeout: 60000 });
     }
-    await page.locator('#guide-card[data-due="4"]').waitFor({ timeout: 10000 });
+    await page.locator('#guide-card[data-due="4"]').waitFor({ timeout: 60000 });
     // Where the trimmers now stand, by the bench's own truth.
     assert.ok(sim, 'the simulated bench was opened');
     const at = sim!.bench.tx.getTrims();
@@ -193,7 +193,7 @@ describe('guided alignment, end to end', () => {
     await page
       .locator('#guide-next')
       .filter({ hasText: /^Set Balance C/ })
-      .waitFor({ timeout: 10000 });
+      .waitFor({ timeout: 60000 });
     assert.match(await page.locator('#guide-next').innerText(), /^Set Balance C \(B\) to \d+\.\d{3} turns$/);
     assert.match(await page.locator('#guide-turn').innerText(), /Balance R held at \d+\.\d+ turns/);
     let readings = 0;
@@ -205,12 +205,12 @@ describe('guided alignment, end to end', () => {
       const state = await page.locator('#guide-state').innerText();
       await page.fill('#trim-B', String(next.B));
       await page.press('#trim-B', 'Enter');
-      await page.locator('#guide-card[data-due="3"]').waitFor({ timeout: 20000 });
+      await page.locator('#guide-card[data-due="3"]').waitFor({ timeout: 60000 });
       await page.click('#guide-keep');
       await page.waitForFunction(
         (before) => document.querySelector('#guide-state')?.textContent !== before,
         state,
-        { timeout: 20000 },
+        { timeout: 60000 },
       );
       if (readings === 4) await page.screenshot({ path: shot('guide-05-one-trimmer'), fullPage: true });
     }

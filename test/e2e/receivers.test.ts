@@ -116,7 +116,7 @@ describe('web mode with real receivers, end to end', () => {
 
   it('shows a link fault plainly and recovers when the receiver is back', async () => {
     await rig.close();
-    await page.locator('#link-state.fault').waitFor({ timeout: 10000 });
+    await page.locator('#link-state.fault').waitFor({ timeout: 60000 });
     assert.match(
       await page.locator('#link-state').innerText(),
       /fault: .*rig-control daemon at 127\.0\.0\.1/,
@@ -125,7 +125,7 @@ describe('web mode with real receivers, end to end', () => {
     await page.screenshot({ path: shot('e2e-rx-02-link-fault') });
     rig = new RigServer({ bench: new SimBench({ seed: 3, pathLossDb: 50 }) });
     await rig.listen(rigPort);
-    await page.locator('#link-state.live').waitFor({ timeout: 20000 });
+    await page.locator('#link-state.live').waitFor({ timeout: 60000 });
     assert.match(await page.locator('#link-state').innerText(), /reading/);
   });
 
@@ -138,17 +138,17 @@ describe('web mode with real receivers, end to end', () => {
     await page.fill('input[name=cal-level]', '-80');
     gen.setScript([-40]);
     await page.click('#cal-read');
-    await page.locator('#cal-rows tr').first().waitFor({ timeout: 15000 });
+    await page.locator('#cal-rows tr').first().waitFor({ timeout: 60000 });
     await page.fill('input[name=cal-level]', '-40');
     gen.setScript([2]);
     await page.click('#cal-read');
-    await page.locator('#cal-rows tr').nth(1).waitFor({ timeout: 15000 });
+    await page.locator('#cal-rows tr').nth(1).waitFor({ timeout: 60000 });
     // A level above the receiver's rating is refused before anything is read.
     await page.fill('input[name=cal-level]', '50');
     await page.click('#cal-read');
     await page.locator('#cal-error').filter({ hasText: 'above its rated' }).waitFor();
     await page.click('#cal-fit');
-    await page.locator('#cal-table').waitFor({ timeout: 10000 });
+    await page.locator('#cal-table').waitFor({ timeout: 60000 });
     // Level at the receiver = generator - pad: -40 -> -120 dBm, +2 -> -80 dBm.
     assert.match(await page.locator('#cal-table').innerText(), /-40 → −120\.0 dBm, 2 → −80\.0 dBm/);
     assert.match(await page.locator('#rx-rows').innerText(), /Spare receiver.*guided calibration/);

@@ -121,7 +121,8 @@ describe('nullbench log under SIGKILL', () => {
   it(`keeps every acknowledged reading through ${TRIALS} kills at random moments, with an intact database`, async (t) => {
     // CRASH_CLI runs the trials against another build (how the test's own sensitivity was checked).
     const cli = process.env.CRASH_CLI ?? (await bundleCli());
-    const seed = Number(process.env.CRASH_SEED ?? Date.now() % 1e9);
+    // The suite's one seed (FUZZ_SEED, printed by npm test) unless CRASH_SEED picks another; otherwise the clock.
+    const seed = Number(process.env.CRASH_SEED ?? process.env.FUZZ_SEED ?? Date.now() % 1e9);
     const rnd = mulberry32(seed);
     const tmp = tempDir();
     let acked = 0;

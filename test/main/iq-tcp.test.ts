@@ -166,7 +166,9 @@ describe('IqTcpClient against the IQ simulator server', () => {
     const ms = performance.now() - t0;
     await c.close();
     await own.close();
-    assert.ok(ms > 120 && ms < 2000, `took ${ms} ms`);
+    // Lower bound only: 0.2 s of samples cannot arrive sooner than 0.2 s after the first (the pacing holds back
+    // a block until its time); an upper bound would measure the machine, not the server.
+    assert.ok(ms > 120, `took ${ms} ms`);
   });
 });
 
