@@ -1,8 +1,21 @@
 // Runs in Node (main process, web server, CLI). Opens the database (WAL) and applies the numbered
 // SQL files in migrations/ in order, recording each in schema_migrations, each in its own transaction.
-// An existing database is copied aside before it is upgraded; one from a newer Nullbench is refused.
+// Only our own, whole files are opened: another program's SQLite file, a damaged one or one from a newer
+// Nullbench is refused untouched. An existing database is copied aside (verified) before it is upgraded.
 import Database from 'better-sqlite3';
-import { existsSync, mkdirSync, readdirSync, readFileSync } from 'node:fs';
+import {
+  accessSync,
+  closeSync,
+  constants as fsConstants,
+  existsSync,
+  mkdirSync,
+  openSync,
+  readdirSync,
+  readFileSync,
+  readSync,
+  renameSync,
+  rmSync,
+} from 'node:fs';
 import { dirname, join, resolve } from 'node:path';
 import { BenchError } from '../../app/errors';
 import { migrationsDir } from '../paths';
@@ -41,58 +54,223 @@ export function loadMigrations(dir = migrationsDir()): Migration[] {
 export interface OpenOptions {
   /** Path to the better-sqlite3 native binding (the Electron shell passes its own ABI build). */
   nativeBinding?: string;
+  /** Open for reading only: nothing in the file or beside it is changed, on read-only media too. */
   readonly?: boolean;
   migrations?: Migration[];
   /** Told where the copy made before an upgrade of an existing database went. */
   onBackup?: (path: string) => void;
 }
 
-export function openDb(file: string, opts: OpenOptions = {}): Db {
-  if (file !== ':memory:') mkdirSync(dirname(resolve(file)), { recursive: true });
-  const nativeBinding = opts.nativeBinding ?? process.env.NULLBENCH_SQLITE_BINDING ?? undefined;
-  const db = new Database(file, { readonly: opts.readonly ?? false, nativeBinding });
-  db.pragma('journal_mode = WAL');
-  // FULL: a reading acknowledged to the user has reached the disk, even on power loss.
-  db.pragma('synchronous = FULL');
-  db.pragma('foreign_keys = ON');
-  db.pragma('busy_timeout = 5000');
-  if (!opts.readonly) {
-    const migrations = opts.migrations ?? loadMigrations();
+/** SQLite's application id marking a database as Nullbench's ("NBEN"), set when the schema is first made. */
+export const APPLICATION_ID = 0x4e42454e;
+const SQLITE_MAGIC = 'SQLite format 3\0';
+
+/** The first 16 bytes of a file, or null when it is empty or absent. Names the file and the reason on error. */
+function fileHead(file: string): Buffer | null {
+  if (!existsSync(file)) return null;
+  try {
+    const fd = openSync(file, 'r');
     try {
+      const head = Buffer.alloc(16);
+      const n = readSync(fd, head, 0, 16, 0);
+      return n === 0 ? null : head.subarray(0, n);
+    } finally {
+      closeSync(fd);
+    }
+  } catch (e) {
+    throw ioError(file, e, 'read');
+  }
+}
+
+/** A damaged database, refused with what found the damage and what the user can do. */
+function damaged(where: string, detail: string): BenchError {
+  return new BenchError(
+    'EIO',
+    `${where} is damaged (${detail}); nothing was written to it. Restore its latest backup (a .bak file ` +
+      'beside it) or copy it aside and start a new database',
+    'database',
+  );
+}
+
+/** An open or I/O failure as a BenchError that names the file and the system's reason. */
+export function ioError(file: string, e: unknown, doing = 'open'): BenchError {
+  if (e instanceof BenchError) return e;
+  const err = e as NodeJS.ErrnoException & { code?: string };
+  const reasons: Record<string, string> = {
+    EACCES: 'permission denied',
+    EPERM: 'operation not permitted',
+    EROFS: 'the file system is read-only',
+    ENOSPC: 'the disk is full',
+    ENOENT: 'no such file or folder',
+    EISDIR: 'it is a folder',
+    SQLITE_CANTOPEN: 'SQLite cannot open it',
+    SQLITE_READONLY: 'it can only be read here',
+    SQLITE_FULL: 'the disk is full',
+    SQLITE_IOERR: 'an input/output error',
+    SQLITE_BUSY: 'another program holds it locked',
+  };
+  const code = String(err.code ?? '');
+  if (code.startsWith('SQLITE_CORRUPT') || code === 'SQLITE_NOTADB')
+    return damaged(resolve(file), err.message);
+  const reason = reasons[code] ?? reasons[code.replace(/_[A-Z_]+$/, '')] ?? '';
+  let where = '';
+  if (code.startsWith('SQLITE_CANTOPEN') || code === 'ENOENT' || code === 'EACCES') {
+    const folder = dirname(resolve(file));
+    if (!existsSync(folder)) where = `; the folder ${folder} does not exist`;
+    else {
+      try {
+        accessSync(folder, fsConstants.W_OK);
+      } catch {
+        where = `; the folder ${folder} cannot be written to`;
+      }
+    }
+  }
+  return new BenchError(
+    'EIO',
+    `cannot ${doing} the database ${resolve(file)}: ${reason ? `${reason} (${err.message})` : err.message}${where}`,
+    'database',
+  );
+}
+
+/**
+ * Opens (and, unless read-only, creates and upgrades) a Nullbench database. Before anything is written it checks
+ * that the file is ours: a SQLite file, marked with our application id (or an unmarked database of our own
+ * schema, which is then marked), not from a newer Nullbench, and whole (SQLite's quick check). A file that fails
+ * any of these is refused with its path and left exactly as it was, its journal mode included.
+ */
+export function openDb(file: string, opts: OpenOptions = {}): Db {
+  const memory = file === ':memory:';
+  const readonly = opts.readonly ?? false;
+  const migrations = opts.migrations ?? loadMigrations();
+  if (!memory) {
+    const head = fileHead(file);
+    if (head && head.toString('latin1') !== SQLITE_MAGIC)
+      throw new BenchError(
+        'EINVAL',
+        `${resolve(file)} is not a Nullbench database (not a SQLite file at all: it starts ` +
+          `${[...head.subarray(0, 8)].map((b) => b.toString(16).padStart(2, '0')).join(' ')}); nothing was changed`,
+        'database',
+      );
+    if (readonly && !head)
+      throw new BenchError('ENOTFOUND', `no database at ${resolve(file)} (nothing to read)`, 'database');
+    if (!readonly) {
+      try {
+        mkdirSync(dirname(resolve(file)), { recursive: true });
+      } catch (e) {
+        throw ioError(file, e, 'create the folder of');
+      }
+    }
+  }
+  const nativeBinding = opts.nativeBinding ?? process.env.NULLBENCH_SQLITE_BINDING ?? undefined;
+  let db: Db;
+  try {
+    db = new Database(file, { readonly, fileMustExist: readonly, nativeBinding });
+  } catch (e) {
+    throw ioError(file, e);
+  }
+  try {
+    db.pragma('busy_timeout = 5000');
+    checkOurs(db, file, migrations);
+    if (!readonly) {
+      db.pragma('journal_mode = WAL');
+      // FULL: a reading acknowledged to the user has reached the disk, even on power loss.
+      db.pragma('synchronous = FULL');
+    }
+    db.pragma('foreign_keys = ON');
+    if (!readonly) {
       const applied = appliedVersions(db);
-      const known = new Set(migrations.map((m) => m.version));
       const pending = migrations.filter((m) => !applied.has(m.version));
-      // An existing database about to change gets a copy first (one from a newer build is refused below).
-      if (
-        file !== ':memory:' &&
-        applied.size > 0 &&
-        pending.length > 0 &&
-        [...applied].every((v) => known.has(v))
-      ) {
+      // An existing database about to change gets a copy first (one from a newer build was refused above).
+      if (!memory && applied.size > 0 && pending.length > 0) {
         const latest = migrations[migrations.length - 1].version;
         const copy = backupBeforeUpgrade(db, file, schemaVersion(db), latest);
         opts.onBackup?.(copy);
       }
       migrate(db, migrations);
-    } catch (e) {
-      db.close();
-      throw e;
+      if ((db.pragma('application_id', { simple: true }) as number) !== APPLICATION_ID)
+        db.pragma(`application_id = ${APPLICATION_ID}`);
     }
+  } catch (e) {
+    db.close();
+    throw memory ? e : ioError(file, e);
   }
   return db;
 }
 
 /**
+ * Refuses, without writing anything, a database that is not ours, is damaged, or comes from a newer Nullbench.
+ * Ours: marked with APPLICATION_ID, empty (a new file), or unmarked with our first migration recorded (made
+ * before the mark existed).
+ */
+function checkOurs(db: Db, file: string, migrations: Migration[]): void {
+  const where = file === ':memory:' ? 'the in-memory database' : resolve(file);
+  const id = db.pragma('application_id', { simple: true }) as number;
+  const tables = (
+    db.prepare("SELECT name FROM sqlite_master WHERE type = 'table' ORDER BY name").all() as {
+      name: string;
+    }[]
+  ).map((r) => r.name);
+  if (id !== APPLICATION_ID && tables.length > 0) {
+    const first = migrations[0];
+    const ourOld =
+      id === 0 &&
+      tables.includes('schema_migrations') &&
+      first !== undefined &&
+      db
+        .prepare('SELECT 1 FROM schema_migrations WHERE version = ? AND name = ?')
+        .get(first.version, first.name);
+    if (!ourOld)
+      throw new BenchError(
+        'ECONFLICT',
+        `${where} is not a Nullbench database: it is another program's SQLite file (application id ${id}, ` +
+          `tables ${tables.slice(0, 6).join(', ')}${tables.length > 6 ? ', …' : ''}); nothing was changed. ` +
+          'Give Nullbench a file of its own with --db',
+        'database',
+      );
+  }
+  const check = (db.pragma('quick_check(5)') as { quick_check: string }[])
+    .map((r) => r.quick_check)
+    .filter((l) => !/^\*\*\* in database/.test(l))
+    .map((l) => l.replace(/\s+/g, ' ').trim())
+    .join('; ');
+  if (check !== 'ok') throw damaged(where, `SQLite's quick check: ${check}`);
+  const known = new Set(migrations.map((m) => m.version));
+  const newer = [...appliedVersions(db)].filter((v) => !known.has(v)).sort((a, b) => a - b);
+  if (newer.length)
+    throw new BenchError(
+      'ECONFLICT',
+      `${where} has schema version ${newer[newer.length - 1]}, made by a newer Nullbench than this one ` +
+        `(which knows ${[...known].join(', ')}); open it with a newer Nullbench, nothing was changed`,
+      'database',
+    );
+}
+
+/**
  * Copies the database (a consistent, compacted copy through VACUUM INTO, WAL content included) next to it
- * before an upgrade: "nullbench.db.v2-before-v4.bak". A failed copy stops the upgrade; nothing is changed.
+ * before an upgrade: "nullbench.db.v2-before-v4.bak". The copy is written under a temporary name, checked
+ * (SQLite's quick check, the same schema version), then renamed, so the documented name only ever holds a whole
+ * copy. A failed copy stops the upgrade; nothing is changed.
  */
 export function backupBeforeUpgrade(db: Db, file: string, from: number, to: number): string {
   const base = `${resolve(file)}.v${from}-before-v${to}`;
   let target = `${base}.bak`;
   if (existsSync(target)) target = `${base}.${new Date().toISOString().replace(/[:.]/g, '-')}.bak`;
+  const partial = `${target}.partial`;
   try {
-    db.prepare('VACUUM INTO ?').run(target);
+    rmSync(partial, { force: true });
+    db.prepare('VACUUM INTO ?').run(partial);
+    const copy = new Database(partial, { readonly: true, fileMustExist: true });
+    try {
+      const check = copy.pragma('quick_check', { simple: true });
+      if (check !== 'ok') throw new Error(`the copy fails SQLite's quick check: ${String(check)}`);
+      if (schemaVersion(copy) !== from)
+        throw new Error(`the copy has schema ${schemaVersion(copy)}, the database ${from}`);
+    } finally {
+      copy.close();
+    }
+    renameSync(partial, target);
   } catch (e) {
+    rmSync(partial, { force: true });
     throw new BenchError(
       'EIO',
       `could not back the database up to ${target} before upgrading it from schema ${from} to ${to} ` +
