@@ -31,7 +31,7 @@ export class PlanCalls {
   ) {
     this.repo = new PlanRepo(ctx.store);
     // No runner survives a restart: runs still marked running were cut off, and can be resumed.
-    this.repo.markInterrupted();
+    if (!ctx.store.readonly) this.repo.markInterrupted();
   }
 
   /** The plan running in this process, if any. */

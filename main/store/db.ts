@@ -15,6 +15,7 @@ import {
   readSync,
   renameSync,
   rmSync,
+  statSync,
 } from 'node:fs';
 import { dirname, join, resolve } from 'node:path';
 import { BenchError } from '../../app/errors';
@@ -116,14 +117,17 @@ export function ioError(file: string, e: unknown, doing = 'open'): BenchError {
   let where = '';
   if (code.startsWith('SQLITE_CANTOPEN') || code === 'ENOENT' || code === 'EACCES') {
     const folder = dirname(resolve(file));
-    if (!existsSync(folder)) where = `; the folder ${folder} does not exist`;
-    else {
-      try {
-        accessSync(folder, fsConstants.W_OK);
-      } catch {
-        where = `; the folder ${folder} cannot be written to`;
-      }
+    let near = folder;
+    while (!existsSync(near) && dirname(near) !== near) near = dirname(near);
+    let writable = true;
+    try {
+      accessSync(near, fsConstants.W_OK);
+    } catch {
+      writable = false;
     }
+    if (near !== folder)
+      where = `; the folder ${folder} does not exist${writable ? '' : ` and ${near} cannot be written to`}`;
+    else if (!writable) where = `; the folder ${folder} cannot be written to`;
   }
   return new BenchError(
     'EIO',
@@ -152,7 +156,12 @@ export function openDb(file: string, opts: OpenOptions = {}): Db {
         'database',
       );
     if (readonly && !head)
-      throw new BenchError('ENOTFOUND', `no database at ${resolve(file)} (nothing to read)`, 'database');
+      throw new BenchError(
+        'ENOTFOUND',
+        `no database at ${resolve(file)}: nothing has been stored there yet (nullbench add or nullbench demo ` +
+          'makes one)',
+        'database',
+      );
     if (!readonly) {
       try {
         mkdirSync(dirname(resolve(file)), { recursive: true });
@@ -162,11 +171,15 @@ export function openDb(file: string, opts: OpenOptions = {}): Db {
     }
   }
   const nativeBinding = opts.nativeBinding ?? process.env.NULLBENCH_SQLITE_BINDING ?? undefined;
-  let db: Db;
+  let db: Db | undefined;
   try {
     db = new Database(file, { readonly, fileMustExist: readonly, nativeBinding });
+    db.pragma('schema_version'); // the file is really opened here, not at the constructor
   } catch (e) {
-    throw ioError(file, e);
+    db?.close();
+    const ro = readonly && !memory && String((e as { code?: string }).code).startsWith('SQLITE_CANTOPEN');
+    if (!ro) throw ioError(file, e);
+    db = readOnlyCopy(file, nativeBinding, e);
   }
   try {
     db.pragma('busy_timeout = 5000');
@@ -177,7 +190,18 @@ export function openDb(file: string, opts: OpenOptions = {}): Db {
       db.pragma('synchronous = FULL');
     }
     db.pragma('foreign_keys = ON');
-    if (!readonly) {
+    if (readonly) {
+      const applied = appliedVersions(db);
+      const pending = migrations.filter((m) => !applied.has(m.version));
+      if (pending.length)
+        throw new BenchError(
+          'ECONFLICT',
+          `${resolve(file)} has schema version ${schemaVersion(db)}, older than this Nullbench's ` +
+            `${migrations[migrations.length - 1].version}, and this command only reads: run a command that writes ` +
+            '(nullbench add, log, serve) once to upgrade it (a copy is kept first); nothing was changed',
+          'database',
+        );
+    } else {
       const applied = appliedVersions(db);
       const pending = migrations.filter((m) => !applied.has(m.version));
       // An existing database about to change gets a copy first (one from a newer build was refused above).
@@ -195,6 +219,40 @@ export function openDb(file: string, opts: OpenOptions = {}): Db {
     throw memory ? e : ioError(file, e);
   }
   return db;
+}
+
+/**
+ * A database on read-only media in WAL mode cannot be opened in place: SQLite needs to create its -shm file
+ * beside it. With no write-ahead log pending (no -wal file, or an empty one, as a clean close leaves it), the
+ * main file holds every committed row, so it is read into memory and opened there, its header marked as a
+ * rollback-journal file (bytes 18-19, per SQLite's file format). A pending log cannot be read without
+ * writing: refused with what to do.
+ */
+function readOnlyCopy(file: string, nativeBinding: string | undefined, cause: unknown): Db {
+  const wal = `${file}-wal`;
+  if (existsSync(wal) && statSync(wal).size > 0)
+    throw new BenchError(
+      'EIO',
+      `cannot open the database ${resolve(file)} for reading: its folder cannot be written to and its ` +
+        `write-ahead log (${wal}) still holds changes (${(cause as Error).message}); copy the .db file and its ` +
+        '-wal file together to a folder that can be written to and open the copy',
+      'database',
+    );
+  let bytes: Buffer;
+  try {
+    bytes = readFileSync(file);
+  } catch (e) {
+    throw ioError(file, e, 'read');
+  }
+  if (bytes.length >= 20 && bytes[18] === 2 && bytes[19] === 2) {
+    bytes[18] = 1;
+    bytes[19] = 1;
+  }
+  try {
+    return new Database(bytes, { readonly: true, nativeBinding });
+  } catch (e) {
+    throw ioError(file, e);
+  }
 }
 
 /**

@@ -122,8 +122,12 @@ export class Store implements ReadingSink {
   private readonly insertReadingStmt;
   private readonly correctionIds = new Map<string, number>();
 
+  /** Opened for reading only: every write is refused by SQLite, and nothing that writes on start runs. */
+  readonly readonly: boolean;
+
   constructor(file: string, opts: OpenOptions = {}) {
     this.file = file;
+    this.readonly = opts.readonly ?? false;
     this.db = openDb(file, opts);
     registerConnection(this, this.db);
     this.insertReadingStmt = this.db.prepare(

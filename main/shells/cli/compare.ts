@@ -8,7 +8,7 @@ import {
 } from '../../../app/analysis';
 import { BenchError } from '../../../app/errors';
 import { parseOptions, reportError, type Command } from './command';
-import { withRecords } from './records';
+import { readRecords } from './records';
 
 const f1 = (x: number) => {
   const s = Math.abs(x).toFixed(1);
@@ -45,7 +45,7 @@ measurement can tell apart (the larger of 1 dB and twice the combined typical un
       const ref = values.reference as SuppressionReference;
       if (!SUPPRESSION_REFERENCES.includes(ref))
         throw new BenchError('EINVAL', `must be one of ${SUPPRESSION_REFERENCES.join(', ')}`, '--reference');
-      await withRecords(values.db, async ({ service, records }) => {
+      await readRecords(values.db, async ({ service, records }) => {
         const d = records.findDesign(values.design!, '--design');
         const c = await service.invoke('compareRevisions', { designId: d.id, reference: ref });
         if (values.json) {

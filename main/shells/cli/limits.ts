@@ -5,7 +5,7 @@ import { BenchError } from '../../../app/errors';
 import { STANDING_LABELS, VERIFY_CAUTION, ruleText } from '../../../app/limits';
 import { parseJsonText } from '../../store/bundles';
 import { parseOptions, reportError, type Command } from './command';
-import { withRecords } from './records';
+import { readRecords, withRecords } from './records';
 
 export const limitsCommand: Command = {
   name: 'limits',
@@ -39,7 +39,9 @@ ${VERIFY_CAUTION}`,
       }
       if (values.save !== undefined && values.delete !== undefined)
         throw new BenchError('EINVAL', 'give --save or --delete, not both', 'arguments');
-      await withRecords(values.db, async ({ service, records }) => {
+      // Listing only reads; --save and --delete write.
+      const open = values.save === undefined && values.delete === undefined ? readRecords : withRecords;
+      await open(values.db, async ({ service, records }) => {
         if (values.save !== undefined) {
           let text: string;
           try {

@@ -16,7 +16,18 @@ export interface Opened {
 
 /** Opens the database (default: the user's) and runs fn with a service over it; always closes. */
 export async function withRecords<T>(db: string | undefined, fn: (o: Opened) => Promise<T> | T): Promise<T> {
-  const store = new Store(db ?? defaultDbPath());
+  return opened(new Store(db ?? defaultDbPath()), fn);
+}
+
+/**
+ * withRecords for a command that only reads: the file is opened for reading (on read-only media too) and is
+ * never created, upgraded or changed.
+ */
+export async function readRecords<T>(db: string | undefined, fn: (o: Opened) => Promise<T> | T): Promise<T> {
+  return opened(new Store(db ?? defaultDbPath(), { readonly: true }), fn);
+}
+
+async function opened<T>(store: Store, fn: (o: Opened) => Promise<T> | T): Promise<T> {
   const service = new Service({ store, mode: 'cli' });
   try {
     return await fn({ store, service, records: new Records(store) });

@@ -5,7 +5,7 @@ import { BenchError } from '../../../app/errors';
 import { VERDICT_LABELS } from '../../../app/limits';
 import { renderSheet, sheetPdf } from '../../sheet';
 import { parseOptions, reportError, type Command } from './command';
-import { withRecords, writeWhole } from './records';
+import { readRecords, writeWhole } from './records';
 
 export const sheetCommand: Command = {
   name: 'sheet',
@@ -48,7 +48,7 @@ Chromium is found at /usr/bin/chromium or CHROMIUM_PATH.`,
         !SUPPRESSION_REFERENCES.includes(values.reference as SuppressionReference)
       )
         throw new BenchError('EINVAL', `must be one of ${SUPPRESSION_REFERENCES.join(', ')}`, '--reference');
-      await withRecords(values.db, async ({ store, records }) => {
+      await readRecords(values.db, async ({ store, records }) => {
         const unit = records.unitBySerial(values.unit!.trim(), '--unit');
         const opts = {
           sessionId: values.session,

@@ -4,7 +4,7 @@ import { readFileSync } from 'node:fs';
 import { BUNDLE_KINDS } from '../../../app/bundle';
 import { BenchError } from '../../../app/errors';
 import { parseOptions, reportError, type Command } from './command';
-import { withRecords, writeWhole } from './records';
+import { readRecords, withRecords, writeWhole } from './records';
 
 export const exportCommand: Command = {
   name: 'export',
@@ -40,7 +40,7 @@ Options:
           'only with --csv (a bundle holds whole designs)',
           values.unit !== undefined ? '--unit' : '--session',
         );
-      await withRecords(values.db, async ({ service, records }) => {
+      await readRecords(values.db, async ({ service, records }) => {
         const designId =
           values.design !== undefined ? records.findDesign(values.design, '--design').id : undefined;
         if (values.csv) {

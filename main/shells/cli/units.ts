@@ -1,6 +1,6 @@
 // Runs in Node. `nullbench units` and `nullbench designs`: what the database holds, as text or JSON.
 import { parseOptions, reportError, type Command } from './command';
-import { withRecords } from './records';
+import { readRecords } from './records';
 
 export const unitsCommand: Command = {
   name: 'units',
@@ -24,7 +24,7 @@ Options:
         io.out(this.usage + '\n');
         return 0;
       }
-      await withRecords(values.db, ({ records }) => {
+      await readRecords(values.db, ({ records }) => {
         const designId = values.design ? records.findDesign(values.design, '--design').id : undefined;
         const units = records.listUnits(designId);
         if (values.json) {
@@ -69,7 +69,7 @@ Options:
         io.out(this.usage + '\n');
         return 0;
       }
-      await withRecords(values.db, ({ store }) => {
+      await readRecords(values.db, ({ store }) => {
         const tree = store.tree();
         if (values.json) {
           io.out(JSON.stringify(tree, null, 2) + '\n');
