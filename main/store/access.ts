@@ -26,12 +26,14 @@ export class AccessTokenRepo {
 
   /** Revokes every active token and stores a new one's hash, in one transaction. */
   replace(hashHex: string, label: string, at: string): void {
-    this.db.transaction(() => {
-      this.db.prepare('UPDATE access_tokens SET revoked_at = ? WHERE revoked_at IS NULL').run(at);
-      this.db
-        .prepare('INSERT INTO access_tokens (hash, label, created_at) VALUES (?, ?, ?)')
-        .run(hashHex, label, at);
-    })();
+    this.db
+      .transaction(() => {
+        this.db.prepare('UPDATE access_tokens SET revoked_at = ? WHERE revoked_at IS NULL').run(at);
+        this.db
+          .prepare('INSERT INTO access_tokens (hash, label, created_at) VALUES (?, ?, ?)')
+          .run(hashHex, label, at);
+      })
+      .immediate();
   }
 
   /** The newest active token's record, or null when none has been issued. */

@@ -62,6 +62,9 @@ export interface OpenOptions {
   onBackup?: (path: string) => void;
 }
 
+/** How long a write waits for another program's write transaction to end, ms. */
+export const BUSY_TIMEOUT_MS = 20_000;
+
 /** SQLite's application id marking a database as Nullbench's ("NBEN"), set when the schema is first made. */
 export const APPLICATION_ID = 0x4e42454e;
 const SQLITE_MAGIC = 'SQLite format 3\0';
@@ -182,7 +185,9 @@ export function openDb(file: string, opts: OpenOptions = {}): Db {
     db = readOnlyCopy(file, nativeBinding, e);
   }
   try {
-    db.pragma('busy_timeout = 5000');
+    // A writer waits this long for another program's write to end before it fails (a large import, a
+    // migration); readers never wait in WAL mode.
+    db.pragma(`busy_timeout = ${BUSY_TIMEOUT_MS}`);
     checkOurs(db, file, migrations);
     if (!readonly) {
       db.pragma('journal_mode = WAL');
@@ -384,13 +389,15 @@ export function migrate(db: Db, migrations: Migration[]): number {
   for (const m of migrations) {
     if (applied.has(m.version)) continue;
     db.transaction(() => {
+      // Another program opening the same new file may have applied it while this one waited for the lock.
+      if (db.prepare('SELECT 1 FROM schema_migrations WHERE version = ?').get(m.version)) return;
       db.exec(m.sql);
       db.prepare('INSERT INTO schema_migrations (version, name, applied_at) VALUES (?, ?, ?)').run(
         m.version,
         m.name,
         new Date().toISOString(),
       );
-    })();
+    }).immediate();
   }
   return latest;
 }

@@ -142,9 +142,13 @@ export class Store implements ReadingSink {
     this.db.close();
   }
 
-  /** Runs fn in one transaction; a throw rolls everything back. */
+  /**
+   * Runs fn in one transaction; a throw rolls everything back. It begins IMMEDIATE: the write lock is taken at
+   * the start (waiting up to the busy timeout for another program's write to end), so a transaction that reads
+   * before it writes never fails half-way because another writer went first.
+   */
   tx<T>(fn: () => T): T {
-    return this.db.transaction(fn)();
+    return this.db.transaction(fn).immediate();
   }
 
   // ---- designs, revisions, units -------------------------------------------------------------
