@@ -249,6 +249,8 @@ export const StatusSchema = z.object({
   mode: z.enum(['desktop', 'web', 'cli']),
   dbPath: z.string(),
   activeSessionId: Id.nullable(),
+  /** The open session has ended: it is shown for review, and nothing new is stored in it. */
+  sessionEnded: z.boolean(),
   live: z.boolean(),
   source: z.string().nullable(),
   tunedRole: PointRoleSchema.nullable(),

@@ -25,9 +25,16 @@ export const SESSION_CALLS = {
   createSession: SessionInputSchema,
   listSessions: z.object({ unitId: z.string().min(1).max(64).optional() }),
   getSession: SessionRef,
-  /** Make a session the active one and start reading the receiver live. */
+  /**
+   * Make a session the active one and start reading the receiver live. An ended session is opened for
+   * review only: its readings are shown and nothing new is stored in it.
+   */
   openSession: SessionRef,
   closeSession: z.object({}),
+  /** End the open session for good: stop reading and record its end. Its readings stay. */
+  endSession: z.object({}),
+  /** Start (and open) a new session with the set-up of an earlier one: same unit, receiver, path and power. */
+  repeatSession: SessionRef,
   /** Tune the receiver to one of the session's points. */
   tune: z.object({ role: PointRoleSchema }),
   /** Tell the bench where the trimmers now stand (the simulated bench moves its own). */
@@ -87,6 +94,8 @@ export interface SessionCallResults {
   getSession: Session;
   openSession: Session;
   closeSession: null;
+  endSession: Session;
+  repeatSession: Session;
   tune: Status;
   setTrims: Status;
   keep: Reading;

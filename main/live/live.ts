@@ -20,6 +20,31 @@ export interface LiveEvents {
   reading: [LiveReading];
   error: [BenchError];
   state: [];
+  /** The loop stopped by itself: a fault retrying cannot heal (a refusal, a store that cannot write). */
+  halt: [BenchError];
+}
+
+/**
+ * A failed write to the store as the error the user sees: our own refusals stay as they are (a session that
+ * ended), anything else (a full disk, an I/O error) is EIO with SQLite's reason.
+ */
+export function storeFault(e: unknown): BenchError {
+  if (e instanceof BenchError) return e;
+  const code = String((e as { code?: string }).code ?? '');
+  const why =
+    code === 'SQLITE_FULL'
+      ? 'the disk is full'
+      : code.startsWith('SQLITE_IOERR')
+        ? 'an input/output error'
+        : code.startsWith('SQLITE_READONLY')
+          ? 'the database can no longer be written'
+          : 'the database refused the write';
+  return new BenchError(
+    'EIO',
+    `cannot store the reading: ${why} (${e instanceof Error ? e.message : String(e)}); reading stopped, ` +
+      'every reading acknowledged before this one is stored',
+    'database',
+  );
 }
 
 export interface LiveOptions {
@@ -215,12 +240,13 @@ export class LiveBench extends EventEmitter<LiveEvents> {
         const s = await this.source.read();
         if (!this.running) break;
         if (gapId !== null) {
-          this.store.closeGap(gapId, s.t);
+          const closed = this.storeOrHalt(() => this.store.closeGap(gapId!, s.t));
+          if (closed === null) break;
           gapId = null;
         }
         const c = this.corrector.correct(s);
         const st = this.settle.push(c.dbmRx, s.t);
-        const stored = this.store.addReading({
+        const stored = this.storeOrHalt(() => this.store.addReading({
           sessionId: this.session.id,
           t: s.t,
           freqHz: s.freqHz,
@@ -232,7 +258,8 @@ export class LiveBench extends EventEmitter<LiveEvents> {
           trims: this.trims,
           calibration: this.corrector.calibration,
           path: this.corrector.path,
-        });
+        }));
+        if (stored === null) break;
         const live: LiveReading = {
           id: stored.id,
           sessionId: this.session.id,
@@ -262,17 +289,44 @@ export class LiveBench extends EventEmitter<LiveEvents> {
         const err =
           e instanceof BenchError ? e : new BenchError('EIO', e instanceof Error ? e.message : String(e));
         this.lastError = err.message;
-        if (gapId === null)
-          gapId = this.store.addGap(this.session.id, this.source.now(), err.code, err.message);
-        this.emit('error', err);
+        if (gapId === null) {
+          const g = this.storeOrHalt(() =>
+            this.store.addGap(this.session.id, this.source.now(), err.code, err.message),
+          );
+          if (g === null) break;
+          gapId = g;
+        }
         if (errorClass(err.code) === 'permanent') {
           // A configuration fault or a refusal does not heal by retrying: stop and say so.
-          this.running = false;
+          this.halt(err);
           break;
         }
+        this.emit('error', err);
         await this.source.sleep(500);
+        // On a virtual clock the sleep above returns at once: the retry still yields to timers and I/O,
+        // so a failing link never starves the rest of the program.
+        await new Promise((r) => setTimeout(r, 20));
       }
     }
+  }
+
+  /** Runs a store write; on failure the loop halts with the fault said once, and null is returned. */
+  private storeOrHalt<T>(write: () => T): T | null {
+    try {
+      return write();
+    } catch (e) {
+      this.halt(storeFault(e));
+      return null;
+    }
+  }
+
+  /** Stops the loop by itself, saying why: the error is the last one, and 'halt' tells the owner. */
+  private halt(err: BenchError): void {
+    this.running = false;
+    this.lastError = err.message;
+    this.emit('error', err);
+    this.emit('halt', err);
+    this.emit('state');
   }
 
   /** The receiver input at the session's PEP, for display. */

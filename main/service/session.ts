@@ -9,6 +9,7 @@ import { BenchError } from '../../app/errors';
 import { analysePath, assertReceiverSafe, validatePath } from '../../app/path';
 import { LiveBench } from '../live/live';
 import { findDriver } from '../sources';
+import { describeHolder, HEARTBEAT_MS, LeaseRepo } from '../store/leases';
 import { sessionSeries } from '../store/series';
 import { seedDemo, type DemoServiceFactory } from './demo';
 import type { GroupHandlers, ServiceContext } from './handlers';
@@ -18,6 +19,13 @@ import type { z } from 'zod';
 export const VERSION = '0.1.0';
 
 type SessionCallName = keyof SessionCallResults;
+
+/** How a lease names the program holding it, by the shell it runs in. */
+const PROGRAMS: Record<ServiceContext['mode'], string> = {
+  cli: 'nullbench on the command line',
+  web: 'the web server',
+  desktop: 'the desktop app',
+};
 
 export interface SessionHooks {
   receivers: ReceiverCalls;
@@ -31,6 +39,10 @@ export interface SessionHooks {
 
 export class SessionCalls {
   private live: LiveBench | null = null;
+  /** An ended session opened for review: shown, never written. */
+  private reviewing: Session | null = null;
+  /** The lease this process holds on the live session, renewed while it reads. */
+  private lease: { sessionId: string; timer: NodeJS.Timeout } | null = null;
   private lastOverloadWarning = 0;
 
   constructor(
@@ -59,6 +71,8 @@ export class SessionCalls {
       getSession: (a) => store.getSession(a.sessionId),
       openSession: (a) => this.open(a.sessionId),
       closeSession: () => this.close(),
+      endSession: () => this.end(),
+      repeatSession: (a) => this.repeat(a.sessionId),
       tune: async (a) => {
         const refusal = this.hooks.tuneRefusal();
         if (refusal) throw new BenchError('ECONFLICT', refusal, 'role');
@@ -87,7 +101,8 @@ export class SessionCalls {
       version: VERSION,
       mode: this.ctx.mode,
       dbPath: this.ctx.store.file,
-      activeSessionId: l?.session.id ?? null,
+      activeSessionId: l?.session.id ?? this.reviewing?.id ?? null,
+      sessionEnded: !l && this.reviewing !== null,
       live: l?.isRunning ?? false,
       source: l?.source.spec ?? null,
       tunedRole: l?.role ?? null,
@@ -150,6 +165,19 @@ export class SessionCalls {
     const { store, emit } = this.ctx;
     const session = store.getSession(id);
     await this.close();
+    if (session.endedAt !== null) {
+      this.reviewing = session;
+      emit('notice', {
+        level: 'info',
+        code: 'ENDED',
+        message:
+          `this session ended at ${session.endedAt}: its readings are shown and nothing new is stored in it. ` +
+          'Start a new session like it to measure again.',
+      });
+      emit('status', this.status());
+      return session;
+    }
+    if (!store.readonly) this.takeLease(session.id);
     const tpl = session.receiver.template;
     const source = this.ctx.makeSource(session.receiver.source, tpl ? { template: tpl } : {});
     source.declareSetup?.({
@@ -190,6 +218,7 @@ export class SessionCalls {
       this.live = null;
       live.removeAllListeners();
       await source.close().catch(() => undefined);
+      this.releaseLease();
       emit('status', this.status());
       throw e;
     }
@@ -222,12 +251,81 @@ export class SessionCalls {
     await this.hooks.beforeClose();
     const l = this.live;
     this.live = null;
+    this.reviewing = null;
     if (l) {
       await l.stop();
       l.removeAllListeners();
     }
+    this.releaseLease();
     this.ctx.emit('status', this.status());
     return null;
+  }
+
+  /** Ends the open session for good: reading stops, its end is recorded, its readings stay. */
+  private async end(): Promise<Session> {
+    const id = this.live?.session.id ?? this.reviewing?.id;
+    if (!id) throw new BenchError('ECONFLICT', 'no session is open: there is nothing to end', 'session');
+    await this.close();
+    this.ctx.store.endSession(id);
+    const ended = this.ctx.store.getSession(id);
+    this.ctx.emit('notice', {
+      level: 'info',
+      code: 'ENDED',
+      message: `session ended at ${ended.endedAt}; its readings are kept.`,
+    });
+    return ended;
+  }
+
+  /** A new session with an earlier one's set-up, checked again as any new set-up is, then opened. */
+  private async repeat(sessionId: string): Promise<Session> {
+    const s = this.ctx.store.getSession(sessionId);
+    const setup = {
+      receiver: s.receiver,
+      path: s.path,
+      carrierHz: s.carrierHz,
+      toneHz: s.toneHz,
+      txPepDbm: s.txPepDbm,
+      operator: s.operator,
+      notes: '',
+      trims: s.trims,
+    };
+    const checked = this.checkSetup(setup as z.output<typeof SessionSetupSchema>);
+    const created = this.ctx.store.createSession({ ...setup, ...checked, unitId: s.unitId });
+    return this.open(created.id);
+  }
+
+  /** Takes the session's lease (refused while another living program holds it) and keeps it fresh. */
+  private takeLease(sessionId: string): void {
+    const leases = new LeaseRepo(this.ctx.store);
+    const was = leases.take(sessionId, PROGRAMS[this.ctx.mode]);
+    if (was)
+      this.ctx.emit('notice', {
+        level: 'warn',
+        code: 'ECONFLICT',
+        message: `took this session over from ${describeHolder(was)}, which is no longer running`,
+      });
+    const timer = setInterval(() => {
+      try {
+        leases.beat(sessionId);
+      } catch {
+        // A heartbeat that cannot be written (a full disk) is retried at the next beat; the readings'
+        // own writes report the fault.
+      }
+    }, HEARTBEAT_MS);
+    timer.unref();
+    this.lease = { sessionId, timer };
+  }
+
+  private releaseLease(): void {
+    const l = this.lease;
+    if (!l) return;
+    this.lease = null;
+    clearInterval(l.timer);
+    try {
+      new LeaseRepo(this.ctx.store).release(l.sessionId);
+    } catch {
+      // Left behind, the lease is taken over once this process has gone.
+    }
   }
 
   private requireLive(): LiveBench {

@@ -7,6 +7,7 @@ import { BenchError } from '../../app/errors';
 import type { PlanPoint, PlanRun, PlanSpec, PlanState, PointAverage } from '../../app/plan';
 import type { Store } from './store';
 import { connectionOf } from './connection';
+import { LeaseRepo } from './leases';
 
 interface RunRow {
   id: string;
@@ -176,12 +177,25 @@ export class PlanRepo {
     ).map((r) => r.reading_id);
   }
 
-  /** After a restart no runner is alive: a run still marked running was cut off, and can be resumed. */
+  /**
+   * A run still marked running whose session no living program holds (schema 005's lease) was cut off: it is
+   * marked interrupted and can be resumed. A run another program is driving right now is left alone.
+   */
   markInterrupted(): number {
-    return this.db
-      .prepare(
-        `UPDATE plan_runs SET state = 'interrupted', message = 'the program stopped while the plan ran', updated_at = ? WHERE state = 'running'`,
-      )
-      .run(now()).changes;
+    const leases = new LeaseRepo(this.store);
+    const running = this.db
+      .prepare(`SELECT id, session_id FROM plan_runs WHERE state = 'running'`)
+      .all() as { id: string; session_id: string }[];
+    const mark = this.db.prepare(
+      `UPDATE plan_runs SET state = 'interrupted', message = 'the program stopped while the plan ran', updated_at = ?
+       WHERE id = ? AND state = 'running'`,
+    );
+    let n = 0;
+    for (const r of running) {
+      const h = leases.holder(r.session_id);
+      if (h && leases.alive(h)) continue;
+      n += mark.run(now(), r.id).changes;
+    }
+    return n;
   }
 }

@@ -120,6 +120,7 @@ export class Store implements ReadingSink {
   private readonly db: Db;
   readonly file: string;
   private readonly insertReadingStmt;
+  private readonly sessionEndStmt;
   private readonly correctionIds = new Map<string, number>();
 
   /** Opened for reading only: every write is refused by SQLite, and nothing that writes on start runs. */
@@ -130,6 +131,7 @@ export class Store implements ReadingSink {
     this.readonly = opts.readonly ?? false;
     this.db = openDb(file, opts);
     registerConnection(this, this.db);
+    this.sessionEndStmt = this.db.prepare('SELECT ended_at FROM sessions WHERE id = ?');
     this.insertReadingStmt = this.db.prepare(
       `INSERT INTO readings (uid, session_id, t_ms, freq_hz, role, raw, dbm_rx, dbm_dut, u_db, settled, kept,
          floor_limited, overload, trims_json, correction_id, note)
@@ -410,6 +412,15 @@ export class Store implements ReadingSink {
   }
 
   private insertReading(r: NewReading): Reading {
+    // Checked inside the reading's own (immediate) transaction, so an end written by another program
+    // a moment ago is seen.
+    const s = this.sessionEndStmt.get(r.sessionId) as { ended_at: string | null } | undefined;
+    if (s?.ended_at)
+      throw new BenchError(
+        'ECONFLICT',
+        `this session ended at ${s.ended_at}: nothing more is stored in it; start a new session to measure again`,
+        'sessionId',
+      );
     for (const [k, v] of Object.entries({
       t: r.t,
       freqHz: r.freqHz,

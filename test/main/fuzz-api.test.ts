@@ -136,6 +136,7 @@ function examples(): Partial<Record<CallName, () => Record<string, unknown>>> {
     }),
     createSession: () => ({ ...sessionSetup(), unitId: first('unit') }),
     openSession: () => ({ sessionId: ids.session[0] }),
+    repeatSession: () => ({ sessionId: ids.session[0] }),
     tune: () => ({ role: 'upper' }),
     setTrims: () => ({ trims: { A: 4.5 } }),
     keep: () => ({ note: 'fuzz', waitSettled: false }),

@@ -155,7 +155,11 @@ describe('plans on the simulated bench', () => {
       const v0 = await t.service.invoke('planStart', {
         plan: { points: ['carrier', 'upper'], average: 200, settleMs: 0 },
       });
-      // A second program opening the same database after a crash: the run is still marked running there.
+      // While its runner lives (the session's lease is held and fresh), another service leaves it running.
+      assert.equal(new Service({ store: t.store, mode: 'cli' }).plans.repo.getRun(v0.id).state, 'running');
+      // A crash: the lease's holder is gone (a process id no process has). A second program opening the same
+      // database then finds the run still marked running there, and shows it interrupted.
+      connectionOf(t.store).prepare('UPDATE session_leases SET pid = 2147483646').run();
       const s2 = new Service({ store: t.store, mode: 'cli' });
       assert.equal(s2.plans.repo.getRun(v0.id).state, 'interrupted');
       await t.service.invoke('planCancel', { planId: v0.id }).catch(() => undefined);

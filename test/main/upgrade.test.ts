@@ -71,6 +71,10 @@ const FILLERS: Record<number, string[]> = {
   4: [
     `INSERT INTO access_tokens (hash, label, created_at) VALUES ('${'ab'.repeat(32)}', 'web mode', '${T0}')`,
   ],
+  5: [
+    `INSERT INTO session_leases (session_id, pid, host, program, taken_at, heartbeat_at)
+       VALUES ('s1', 999999, 'bench-pc', 'log', '${T0}', '${T0}')`,
+  ],
 };
 
 function tables(db: Db): string[] {

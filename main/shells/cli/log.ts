@@ -298,12 +298,20 @@ async function logInto(
       stop();
     }
   });
+  // The bench stopped by itself (a refusal, or a store that cannot write): status says so once it halts.
+  let opened = false;
+  const offStatus = service.listen('status', (st) => {
+    if (!opened || st.live || st.activeSessionId !== session.id) return;
+    fatal = st.lastError ?? 'reading stopped';
+    stop();
+  });
   const onSignal = () => stop();
   process.once('SIGINT', onSignal);
   process.once('SIGTERM', onSignal);
   const timer = forS === null ? null : setTimeout(stop, forS * 1000);
   try {
     await service.invoke('openSession', { sessionId: session.id });
+    opened = true;
     if (role !== 'carrier') await service.invoke('tune', { role });
     io.err(
       `logging session ${session.id} into ${store.file}${forS === null ? ' (Ctrl+C stops)' : ` for ${forS} s`}\n`,
@@ -313,15 +321,32 @@ async function logInto(
     if (timer) clearTimeout(timer);
     process.off('SIGINT', onSignal);
     process.off('SIGTERM', onSignal);
+    opened = false;
     await service.invoke('closeSession', {});
     offReading();
     offNotice();
+    offStatus();
   }
-  store.endSession(session.id);
-  io.err(`stored ${count} readings in session ${session.id}\n`);
+  const stored = `stored ${count} readings in session ${session.id} of ${store.file}`;
   if (fatal !== null) {
-    io.err(`stopped: ${fatal}\n`);
+    // Left open, so it can be continued once the cause is dealt with.
+    // The reason was just printed as the last notice: the closing lines say what is stored and what next.
+    const why = lastNotice.endsWith(fatal) ? 'stopped (see above)' : `stopped: ${fatal}`;
+    io.err(
+      `${stored}; ${why}. The session stays open: continue it with ` +
+        `nullbench log --db ${store.file} --session ${session.id}\n`,
+    );
     return 1;
   }
+  try {
+    store.endSession(session.id);
+  } catch (e) {
+    io.err(
+      `${stored}, but its end could not be recorded (${(e as Error).message}); it stays open: continue or ` +
+        `end it with nullbench log --db ${store.file} --session ${session.id}\n`,
+    );
+    return 1;
+  }
+  io.err(`${stored}\n`);
   return 0;
 }
