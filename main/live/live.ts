@@ -246,19 +246,21 @@ export class LiveBench extends EventEmitter<LiveEvents> {
         }
         const c = this.corrector.correct(s);
         const st = this.settle.push(c.dbmRx, s.t);
-        const stored = this.storeOrHalt(() => this.store.addReading({
-          sessionId: this.session.id,
-          t: s.t,
-          freqHz: s.freqHz,
-          role: this.role,
-          raw: s.raw,
-          ...c,
-          settled: st.settled,
-          kept: false,
-          trims: this.trims,
-          calibration: this.corrector.calibration,
-          path: this.corrector.path,
-        }));
+        const stored = this.storeOrHalt(() =>
+          this.store.addReading({
+            sessionId: this.session.id,
+            t: s.t,
+            freqHz: s.freqHz,
+            role: this.role,
+            raw: s.raw,
+            ...c,
+            settled: st.settled,
+            kept: false,
+            trims: this.trims,
+            calibration: this.corrector.calibration,
+            path: this.corrector.path,
+          }),
+        );
         if (stored === null) break;
         const live: LiveReading = {
           id: stored.id,

@@ -74,8 +74,7 @@ export class LeaseRepo {
 
   holder(sessionId: string): LeaseHolder | null {
     const r = this.db.prepare('SELECT * FROM session_leases WHERE session_id = ?').get(sessionId) as
-      | LeaseRow
-      | undefined;
+      LeaseRow | undefined;
     return r ? toHolder(r) : null;
   }
 

@@ -183,9 +183,10 @@ export class PlanRepo {
    */
   markInterrupted(): number {
     const leases = new LeaseRepo(this.store);
-    const running = this.db
-      .prepare(`SELECT id, session_id FROM plan_runs WHERE state = 'running'`)
-      .all() as { id: string; session_id: string }[];
+    const running = this.db.prepare(`SELECT id, session_id FROM plan_runs WHERE state = 'running'`).all() as {
+      id: string;
+      session_id: string;
+    }[];
     const mark = this.db.prepare(
       `UPDATE plan_runs SET state = 'interrupted', message = 'the program stopped while the plan ran', updated_at = ?
        WHERE id = ? AND state = 'running'`,
