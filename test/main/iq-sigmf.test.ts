@@ -164,6 +164,32 @@ describe('openSigmf()', () => {
     );
   });
 
+  it('refuses a float sample that is NaN or infinite, naming the sample, the component and the byte', async () => {
+    const data = Buffer.alloc(8 * 4);
+    data.writeFloatLE(0.25, 0);
+    data.writeFloatLE(Number.NEGATIVE_INFINITY, 12); // sample 1, Q
+    data.writeFloatLE(Number.NaN, 16); // sample 2, I
+    writeFileSync(base('inf.sigmf-data'), data);
+    writeMeta(base('inf.sigmf-meta'), meta('cf32_le'));
+    const rec = await openRecording(base('inf.sigmf-meta'));
+    try {
+      await assert.rejects(
+        rec.read(0, 4),
+        einval(
+          base('inf.sigmf-meta'),
+          /sample 1 \(Q, at byte 12 of its data\) is -Infinity in 32-bit float little-endian/,
+        ),
+      );
+      await assert.rejects(
+        rec.read(2, 2),
+        einval(base('inf.sigmf-meta'), /sample 2 \(I, at byte 16 of its data\) is NaN/),
+      );
+      assert.deepEqual([...(await rec.read(0, 1))], [0.25, 0]);
+    } finally {
+      await rec.close();
+    }
+  });
+
   it('reports a missing dataset and a missing metadata file', async () => {
     writeMeta(base('lonely.sigmf-meta'), meta('cf32_le'));
     await assert.rejects(

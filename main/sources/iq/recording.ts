@@ -171,6 +171,20 @@ export class ContiguousRecording implements IqRecording {
     }
     const out = new Float32Array(2 * k);
     decode(bytes, this.format, out);
+    if (this.format.kind === 'f') {
+      // A float file can hold NaN or infinity (or a 64-bit value beyond float range): no level can be
+      // computed from it, so it is refused where it sits rather than turned into a silent null.
+      const i = out.findIndex((x) => !Number.isFinite(x));
+      if (i >= 0) {
+        const n = start + Math.floor(i / 2);
+        throw new BenchError(
+          'EINVAL',
+          `sample ${n} (${i % 2 === 0 ? 'I' : 'Q'}, at byte ${pos + i * (size / 2)} of its data) ` +
+            `is ${out[i]} in ${describeFormat(this.format)} samples: the recording is damaged, or not in the format it declares`,
+          this.path,
+        );
+      }
+    }
     return out;
   }
 
