@@ -190,6 +190,10 @@ describe('guided alignment, end to end', () => {
   it('guides one trimmer with the other held, with the fitted curve, its band and the next setting on the null chart', async () => {
     await page.selectOption('#guide-mode', 'B');
     await page.selectOption('#null-trim', 'B');
+    // Afresh: the two-trimmer search just left B at the null, and whether its readings alone already call
+    // for a stop is the noise's choice. From no readings the first suggestion is always a setting to try.
+    if (!(await page.locator('#guide-afresh').isVisible())) await page.click('details.guide-more summary');
+    await page.click('#guide-afresh');
     await page
       .locator('#guide-next')
       .filter({ hasText: /^Set Balance C/ })
