@@ -34,8 +34,27 @@ async function opened(s: Session): Promise<void> {
 
 function showLink(s: Status): void {
   const el = $('#link-state');
-  el.className = `link-state ${s.lastError ? 'fault' : s.live ? 'live' : 'idle'}`;
-  el.textContent = s.lastError ? `fault: ${s.lastError}` : s.live ? `reading · ${s.source}` : 'idle';
+  if (s.sessionEnded) {
+    el.className = 'link-state ended';
+    el.textContent = 'ended · review only';
+  } else {
+    el.className = `link-state ${s.lastError ? 'fault' : s.live ? 'live' : 'idle'}`;
+    el.textContent = s.lastError ? `fault: ${s.lastError}` : s.live ? `reading · ${s.source}` : 'idle';
+  }
+  // A session can be ended while it is open and not ended yet; an ended one offers a new one like it.
+  $('#btn-end-session').hidden = !s.activeSessionId || s.sessionEnded;
+  const banner = $('#ended-banner');
+  banner.hidden = !s.activeSessionId || !s.sessionEnded;
+  if (s.sessionEnded && s.activeSessionId) {
+    banner.dataset.session = s.activeSessionId;
+    void api.call('getSession', { sessionId: s.activeSessionId }).then(
+      (x) =>
+        ($('#ended-text').textContent =
+          `This session ended ${x.endedAt ? when(x.endedAt) : ''}. Its readings are shown; nothing new is ` +
+          'stored in it.'),
+      () => undefined,
+    );
+  }
 }
 
 api.listen('reading', (r) => view.onReading(r));
@@ -51,6 +70,29 @@ api.listen('notice', (n) => notify(n.level, n.message));
 $('#btn-sessions').addEventListener('click', () => {
   void showSessionsDialog({ api, onOpened: (s) => void opened(s) }, true).catch((e: Error) =>
     notify('error', e.message),
+  );
+});
+
+$('#btn-end-session').addEventListener('click', () => {
+  const btn = $('#btn-end-session') as HTMLButtonElement;
+  btn.disabled = true;
+  void api
+    .call('endSession', {})
+    // Ended, it stays on screen for review, with the way to a new session like it.
+    .then((s) => api.call('openSession', { sessionId: s.id }))
+    .then(
+      (s) => opened(s),
+      (e: Error) => notify('error', e.message),
+    )
+    .finally(() => (btn.disabled = false));
+});
+
+$('#btn-repeat-session').addEventListener('click', () => {
+  const id = $('#ended-banner').dataset.session;
+  if (!id) return;
+  void api.call('repeatSession', { sessionId: id }).then(
+    (s) => void opened(s),
+    (e: Error) => notify('error', e.message),
   );
 });
 

@@ -195,6 +195,8 @@ export const SessionSummarySchema = z.object({
   revision: z.string(),
   design: z.string(),
   startedAt: z.string(),
+  /** When the session was ended; null while it may still take readings. */
+  endedAt: z.string().nullable(),
   operator: z.string(),
   readings: z.number(),
   kept: z.number(),

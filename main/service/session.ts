@@ -166,14 +166,8 @@ export class SessionCalls {
     const session = store.getSession(id);
     await this.close();
     if (session.endedAt !== null) {
+      // Review only: the status says so (sessionEnded), and every call that would read or keep is refused.
       this.reviewing = session;
-      emit('notice', {
-        level: 'info',
-        code: 'ENDED',
-        message:
-          `this session ended at ${session.endedAt}: its readings are shown and nothing new is stored in it. ` +
-          'Start a new session like it to measure again.',
-      });
       emit('status', this.status());
       return session;
     }
@@ -267,13 +261,7 @@ export class SessionCalls {
     if (!id) throw new BenchError('ECONFLICT', 'no session is open: there is nothing to end', 'session');
     await this.close();
     this.ctx.store.endSession(id);
-    const ended = this.ctx.store.getSession(id);
-    this.ctx.emit('notice', {
-      level: 'info',
-      code: 'ENDED',
-      message: `session ended at ${ended.endedAt}; its readings are kept.`,
-    });
-    return ended;
+    return this.ctx.store.getSession(id);
   }
 
   /** A new session with an earlier one's set-up, checked again as any new set-up is, then opened. */
@@ -329,6 +317,12 @@ export class SessionCalls {
   }
 
   private requireLive(): LiveBench {
+    if (!this.live && this.reviewing)
+      throw new BenchError(
+        'ECONFLICT',
+        `this session ended at ${this.reviewing.endedAt}: nothing new is stored in it; start a new session like it`,
+        'session',
+      );
     if (!this.live)
       throw new BenchError('ECONFLICT', 'no session is open: open or create a session first', 'session');
     return this.live;

@@ -371,7 +371,7 @@ export class Store implements ReadingSink {
     const rows = this.db
       .prepare(
         `SELECT s.id, s.unit_id AS unitId, u.serial, r.name AS revision, d.name AS design, s.started_at AS startedAt,
-                s.operator,
+                s.ended_at AS endedAt, s.operator,
                 (SELECT COUNT(*) FROM readings x WHERE x.session_id = s.id) AS readings,
                 (SELECT COUNT(*) FROM readings x WHERE x.session_id = s.id AND x.kept = 1) AS kept,
                 (SELECT MIN(x.dbm_dut) FROM readings x WHERE x.session_id = s.id AND x.kept = 1 AND x.role = 'carrier')

@@ -62,6 +62,8 @@ export class BenchView {
   onStatus(s: Status): void {
     this.status = s;
     if (!this.session || s.activeSessionId !== this.session.id) return;
+    // An ended session is shown for review: its controls that read, tune or keep are stood down.
+    this.root.classList.toggle('reviewing', s.sessionEnded);
     this.guide?.onStatus(s);
     for (const [k, el] of this.trimInputs) {
       if (document.activeElement !== el && typeof s.trims[k] === 'number')

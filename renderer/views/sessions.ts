@@ -35,7 +35,7 @@ export async function showSessionsDialog(deps: SessionsDialogDeps, closable: boo
     h(
       'p',
       { class: 'hint' },
-      'A session is one sitting at the bench with one unit, one receiver and one signal path. Open an earlier one to continue it, or start a new one.',
+      'A session is one sitting at the bench with one unit, one receiver and one signal path. Open an earlier one to continue it (one that has ended opens for review, with a way to start a new one like it), or start a new one.',
     ),
   );
   const two = h('div', { class: 'two' });
@@ -101,6 +101,7 @@ function sessionList(
         h('td', {}, s.serial),
         h('td', {}, `${s.design} ${s.revision}`),
         h('td', {}, when(s.startedAt)),
+        h('td', { class: s.endedAt ? 'hint' : '' }, s.endedAt ? 'ended' : 'open'),
         h('td', { class: 'num' }, String(s.kept)),
         h('td', { class: 'num' }, s.bestCarrierDbm === null ? '—' : dbm(s.bestCarrierDbm)),
       ),
@@ -122,6 +123,7 @@ function sessionList(
             h('th', {}, 'Unit'),
             h('th', {}, 'Design'),
             h('th', {}, 'Started'),
+            h('th', {}, 'State'),
             h('th', { class: 'num' }, 'Kept'),
             h('th', { class: 'num' }, 'Best carrier dBm'),
           ),

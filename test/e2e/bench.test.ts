@@ -128,6 +128,38 @@ describe('web mode, end to end', () => {
     await page.screenshot({ path: shot('e2e-04-dbc') });
   });
 
+  it('ends the session from the top bar, shows it for review, and starts a new one like it', async () => {
+    const before = (await page.locator('#session-line').innerText()).split(' · session of')[0];
+    await page.click('#btn-end-session');
+    await page.locator('#ended-banner').waitFor({ state: 'visible' });
+    assert.match(await page.locator('#ended-text').innerText(), /This session ended .*nothing new is stored/);
+    assert.equal(await page.locator('#link-state').innerText(), 'ended · review only');
+    assert.equal(await page.locator('#btn-end-session').isVisible(), false);
+    await page.screenshot({ path: shot('e2e-05-ended') });
+    const db = new Database(dbFile, { readonly: true });
+    const ended = db.prepare('SELECT id, ended_at FROM sessions WHERE ended_at IS NOT NULL').all() as {
+      id: string;
+      ended_at: string;
+    }[];
+    assert.equal(ended.length, 1, 'one session ended');
+    const count = () =>
+      (
+        db.prepare('SELECT COUNT(*) AS n FROM readings WHERE session_id = ?').get(ended[0].id) as {
+          n: number;
+        }
+      ).n;
+    const n = count();
+    await page.waitForTimeout(500); // any reading now would be one stored after the end
+    assert.equal(count(), n, 'readings stored in an ended session');
+    await page.click('#btn-repeat-session');
+    await page.locator('#ended-banner').waitFor({ state: 'hidden' });
+    await page.locator('#link-state.live').waitFor();
+    assert.equal((await page.locator('#session-line').innerText()).split(' · session of')[0], before);
+    const sessions = db.prepare('SELECT COUNT(*) AS n FROM sessions').get() as { n: number };
+    db.close();
+    assert.equal(sessions.n, 2, 'a second session with the same set-up');
+  });
+
   it('raised no script errors in the page', () => {
     assert.deepEqual(pageErrors, []);
   });
