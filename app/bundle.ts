@@ -3,7 +3,14 @@
 // them without duplicates. This file is the shape; main/store/bundles.ts reads and writes it.
 import { z } from 'zod';
 import { EMISSIONS, SUPPRESSION_REFERENCES } from './analysis';
-import { PointRoleSchema, ReceiverProfileSchema, TrimDefSchema, TrimPositionsSchema } from './api/schemas';
+import {
+  BuildDate,
+  isCalendarDate,
+  PointRoleSchema,
+  ReceiverProfileSchema,
+  TrimDefSchema,
+  TrimPositionsSchema,
+} from './api/schemas';
 import { LimitSetSchema } from './limits';
 
 export const BUNDLE_FORMAT = 'nullbench-bundle';
@@ -12,8 +19,28 @@ export const BUNDLE_VERSION = 1;
 const Id = z.string().min(1, 'must not be empty').max(64);
 const Text = z.string().max(4000);
 const Name = z.string().trim().min(1, 'must not be empty').max(120);
-const When = z.string().max(40);
 const Num = z.number({ error: 'must be a finite number' });
+/** A moment as the store writes it: ISO 8601 in UTC, a real calendar day and time. */
+const When = z
+  .string()
+  .max(40)
+  .refine(
+    (s) =>
+      /^\d{4}-\d{2}-\d{2}T\d{2}:\d{2}:\d{2}(\.\d{1,3})?Z$/.test(s) &&
+      isCalendarDate(s.slice(0, 10)) &&
+      Number.isFinite(Date.parse(s)),
+    { error: 'must be a time in ISO 8601 UTC, e.g. 2026-03-14T19:40:00.000Z' },
+  );
+/**
+ * A level in dBm that a bench can meet: from far below any receiver's floor to 10 MW. A value outside is a
+ * damaged or hand-edited file, refused like a live reading would be.
+ */
+const Dbm = Num.min(-300, 'must be at least -300 dBm').max(100, 'must be at most +100 dBm (10 MW)');
+/** A reading's time, ms since 1970: between 1970 and the year 3000. */
+const Ms = Num.min(0, 'must be a time after 1970 (ms)').max(
+  32_503_680_000_000,
+  'must be a time before 3000 (ms)',
+);
 
 export const BundleDesignSchema = z.strictObject({ id: Id, name: Name, notes: Text, createdAt: When });
 export const BundleRevisionSchema = z.strictObject({
@@ -27,7 +54,7 @@ export const BundleUnitSchema = z.strictObject({
   id: Id,
   revisionId: Id,
   serial: z.string().trim().min(1, 'must not be empty').max(60),
-  buildDate: z.string().max(40),
+  buildDate: BuildDate,
   builder: z.string().max(120),
   notes: Text,
   createdAt: When,
@@ -37,10 +64,10 @@ export const BundleSessionSchema = z.strictObject({
   unitId: Id,
   receiver: ReceiverProfileSchema,
   path: z.array(z.unknown()).max(20),
-  carrierHz: Num.positive(),
-  toneHz: Num.positive(),
-  txPepDbm: Num,
-  rxPepDbm: Num,
+  carrierHz: Num.positive().max(1e12),
+  toneHz: Num.positive().max(1e9),
+  txPepDbm: Dbm,
+  rxPepDbm: Dbm,
   operator: z.string().max(120),
   notes: Text,
   trims: z.array(TrimDefSchema).min(1).max(4),
@@ -57,13 +84,13 @@ export const BundleCorrectionSchema = z.strictObject({
 export const BundleReadingSchema = z.strictObject({
   uid: Id,
   sessionId: Id,
-  t: Num,
-  freqHz: Num,
+  t: Ms,
+  freqHz: Num.min(0).max(1e12),
   role: PointRoleSchema,
-  raw: Num,
-  dbmRx: Num,
-  dbmDut: Num,
-  uDb: Num.min(0),
+  raw: Num.min(-1e6).max(1e6),
+  dbmRx: Dbm,
+  dbmDut: Dbm,
+  uDb: Num.min(0).max(100, 'must be at most 100 dB'),
   settled: z.boolean(),
   kept: z.boolean(),
   floorLimited: z.boolean(),
@@ -74,8 +101,8 @@ export const BundleReadingSchema = z.strictObject({
 });
 export const BundleGapSchema = z.strictObject({
   sessionId: Id,
-  tStartMs: Num,
-  tEndMs: Num.nullable(),
+  tStartMs: Ms,
+  tEndMs: Ms.nullable(),
   code: z.string().max(20),
   message: z.string().max(2000),
 });

@@ -171,6 +171,14 @@ export class SessionCalls {
       emit('status', this.status());
       return session;
     }
+    // Every session is checked again before its receiver is read live, however it came into the database.
+    try {
+      assertReceiverSafe(session.txPepDbm, validatePath(session.path), session.receiver.maxInputDbm);
+    } catch (e) {
+      if (e instanceof BenchError && e.code === 'EUNSAFE')
+        throw new BenchError('EUNSAFE', `refused: ${e.message} ${RF_CAUTION}`, 'path');
+      throw e;
+    }
     if (!store.readonly) this.takeLease(session.id);
     const tpl = session.receiver.template;
     const source = this.ctx.makeSource(session.receiver.source, tpl ? { template: tpl } : {});

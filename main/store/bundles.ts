@@ -17,7 +17,8 @@ import { validateCalibration } from '../../app/calibration';
 import { isDbfsCalibration, validateDbfsCalibration } from '../../app/spectrum/dbfs';
 import { BenchError } from '../../app/errors';
 import { PRESETS, validateLimitSet } from '../../app/limits';
-import { validatePath } from '../../app/path';
+import { assertReceiverSafe, validatePath } from '../../app/path';
+import { RF_CAUTION } from '../../app/caution';
 import { benchErrorFromZod } from '../../app/zodissue';
 import { rowToReading, type ReadingRow, type Store } from './store';
 import { connectionOf } from './connection';
@@ -299,7 +300,22 @@ export function validateBundle(input: unknown, store?: Store): Bundle {
   );
   b.sessions.forEach((x, i) => {
     ref(unitIds.has(x.unitId) || exists('units', x.unitId), `sessions[${i}].unitId`, `unit "${x.unitId}"`);
-    rethrowAt(() => validatePath(x.path), `sessions[${i}]`);
+    const path = rethrowAt(() => validatePath(x.path), `sessions[${i}]`);
+    if (x.endedAt !== null && Date.parse(x.endedAt) < Date.parse(x.startedAt))
+      throw new BenchError(
+        'EINVAL',
+        `ends (${x.endedAt}) before it starts (${x.startedAt})`,
+        `sessions[${i}].endedAt`,
+      );
+    // The same receiver safety check as a live set-up: a bundle cannot bring in a session that declares more
+    // power into its receiver than the receiver is rated for (it could be continued or reported from here).
+    try {
+      assertReceiverSafe(x.txPepDbm, path, x.receiver.maxInputDbm);
+    } catch (e) {
+      if (e instanceof BenchError && e.code === 'EUNSAFE')
+        throw new BenchError('EUNSAFE', `refused: ${e.message} ${RF_CAUTION}`, `sessions[${i}].path`);
+      throw e;
+    }
     if (x.receiver.calibration != null)
       rethrowAt(() => validateCalibration(x.receiver.calibration), `sessions[${i}].receiver.calibration`);
   });
@@ -332,13 +348,19 @@ export function validateBundle(input: unknown, store?: Store): Bundle {
     if (!digests.has(x.correction))
       throw new BenchError('EINVAL', 'names no correction of this bundle', `readings[${i}].correction`);
   });
-  b.gaps.forEach((x, i) =>
+  b.gaps.forEach((x, i) => {
     ref(
       sessionIds.has(x.sessionId) || exists('sessions', x.sessionId),
       `gaps[${i}].sessionId`,
       `session "${x.sessionId}"`,
-    ),
-  );
+    );
+    if (x.tEndMs !== null && x.tEndMs < x.tStartMs)
+      throw new BenchError(
+        'EINVAL',
+        `ends (${x.tEndMs}) before it starts (${x.tStartMs})`,
+        `gaps[${i}].tEndMs`,
+      );
+  });
   b.limitSets.forEach((l, i) => {
     if (l.id.startsWith('preset:'))
       throw new BenchError('EINVAL', 'a preset is never part of a bundle', `limitSets[${i}].id`);

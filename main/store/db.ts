@@ -401,3 +401,33 @@ export function migrate(db: Db, migrations: Migration[]): number {
   }
   return latest;
 }
+
+/**
+ * Removes a database this process has just made (it did not exist when the command began) when the command
+ * failed before anything was stored in it, so a refused command leaves no empty database behind. A file with
+ * any design, session, reading or receiver in it is left alone.
+ */
+export function discardIfEmpty(file: string): boolean {
+  if (file === ':memory:' || !existsSync(file)) return false;
+  const db = new Database(file, { readonly: true, fileMustExist: true });
+  let empty = false;
+  try {
+    const count = (t: string) => (db.prepare(`SELECT COUNT(*) AS n FROM ${t}`).get() as { n: number }).n;
+    empty = [
+      'designs',
+      'sessions',
+      'readings',
+      'receiver_profiles',
+      'serial_templates',
+      'limit_sets',
+      'access_tokens',
+    ].every((t) => count(t) === 0);
+  } catch {
+    empty = false; // not our schema (or not whole): never remove it
+  } finally {
+    db.close();
+  }
+  if (!empty) return false;
+  for (const f of [file, `${file}-wal`, `${file}-shm`]) rmSync(f, { force: true });
+  return true;
+}

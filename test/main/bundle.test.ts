@@ -298,6 +298,111 @@ describe('records.bundle', () => {
     }
   });
 
+  it('checks every value at the door as live input is checked: bounded levels, real and ordered dates, safe set-ups', async () => {
+    const d = await demoDb();
+    const src = new Store(d.file);
+    const text = exportBundleText(src);
+    src.close();
+    const t = tempDb();
+    const target = new Store(t.file);
+    const before = counts(target);
+    const edit = (f: (x: Record<string, Record<string, unknown>[]>) => void) => {
+      const c = JSON.parse(text);
+      f(c);
+      return JSON.stringify(c);
+    };
+    try {
+      rejects(
+        () =>
+          importBundle(
+            target,
+            edit((c) => (c.readings[0].dbmDut = 1e308)),
+          ),
+        'readings[0].dbmDut',
+        /at most \+100 dBm/,
+      );
+      rejects(
+        () =>
+          importBundle(
+            target,
+            edit((c) => (c.readings[0].dbmRx = -1e6)),
+          ),
+        'readings[0].dbmRx',
+        /at least -300 dBm/,
+      );
+      rejects(
+        () =>
+          importBundle(
+            target,
+            edit((c) => (c.readings[0].uDb = 1e9)),
+          ),
+        'readings[0].uDb',
+      );
+      rejects(
+        () =>
+          importBundle(
+            target,
+            edit((c) => (c.readings[0].t = -5)),
+          ),
+        'readings[0].t',
+      );
+      rejects(
+        () =>
+          importBundle(
+            target,
+            edit((c) => (c.sessions[0].startedAt = '2026-13-45T10:00:00.000Z')),
+          ),
+        'sessions[0].startedAt',
+        /ISO 8601 UTC/,
+      );
+      rejects(
+        () =>
+          importBundle(
+            target,
+            edit((c) => (c.designs[0].createdAt = 'yesterday')),
+          ),
+        'designs[0].createdAt',
+      );
+      rejects(
+        () =>
+          importBundle(
+            target,
+            edit((c) => (c.units[0].buildDate = '2026-02-30')),
+          ),
+        'units[0].buildDate',
+      );
+      rejects(
+        () =>
+          importBundle(
+            target,
+            edit((c) => {
+              c.sessions[0].endedAt = '2026-01-01T00:00:00.000Z';
+            }),
+          ),
+        'sessions[0].endedAt',
+        /before it starts/,
+      );
+      // 70 dBm PEP through a 30 dB coupler and a 20 dB pad is +20 dBm into a receiver rated 10 dBm.
+      let unsafe: unknown;
+      try {
+        importBundle(
+          target,
+          edit((c) => (c.sessions[0].txPepDbm = 70)),
+        );
+      } catch (e) {
+        unsafe = e;
+      }
+      assert.ok(unsafe instanceof BenchError && unsafe.code === 'EUNSAFE', String(unsafe));
+      assert.equal(unsafe.field, 'sessions[0].path');
+      assert.match(unsafe.message, /refused: .*rated maximum of 10 dBm/);
+      assert.deepEqual(counts(target), before, 'nothing was written');
+    } finally {
+      target.close();
+      t.cleanup();
+      d.cleanup();
+    }
+  });
+
   it('rolls everything back when a write fails half-way', async () => {
     const d = await demoDb();
     const src = new Store(d.file);

@@ -1,5 +1,6 @@
 import { describe, it } from 'node:test';
 import assert from 'node:assert/strict';
+import { readdirSync } from 'node:fs';
 import { join } from 'node:path';
 import Database from 'better-sqlite3';
 import { main } from '../../main/shells/cli/index';
@@ -114,9 +115,27 @@ describe('nullbench log', () => {
       assert.match(r.err, /EUNSAFE.*--path: refused: .*rated maximum of -10 dBm/);
       // The caution once, in the one wording of app/caution.ts.
       assert.equal(r.err.split('dummy load').length - 1, 1, r.err);
+      // Not even an empty database is left behind: the file this command made is gone again.
+      assert.deepEqual(readdirSync(tmp.dir), []);
+      // Into an existing database, the refusal writes no row.
+      assert.equal((await runCli(['add', '--db', db, '--design', 'Reed Warbler'])).code, 0);
+      const again = await runCli([
+        'log',
+        '--db',
+        db,
+        '--source',
+        'sim:fast',
+        '--tx-pep-dbm',
+        '50',
+        '--max-input-dbm',
+        '-10',
+        '--for-s',
+        '1',
+      ]);
+      assert.equal(again.code, 1);
       const conn = new Database(db, { readonly: true });
-      for (const t of ['designs', 'revisions', 'units', 'sessions', 'readings'])
-        assert.equal((conn.prepare(`SELECT COUNT(*) AS n FROM ${t}`).get() as { n: number }).n, 0, t);
+      for (const [t, n] of Object.entries({ designs: 1, revisions: 0, units: 0, sessions: 0, readings: 0 }))
+        assert.equal((conn.prepare(`SELECT COUNT(*) AS n FROM ${t}`).get() as { n: number }).n, n, t);
       conn.close();
     } finally {
       tmp.cleanup();

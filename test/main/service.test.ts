@@ -2,6 +2,7 @@ import { describe, it } from 'node:test';
 import assert from 'node:assert/strict';
 import { BenchError } from '../../app/errors';
 import { serviceWithSession } from '../helpers/session';
+import { connectionOf } from '../../main/store/connection';
 
 const COUPLER_AND_PAD = [
   { kind: 'coupler', couplingDb: 30 },
@@ -9,6 +10,24 @@ const COUPLER_AND_PAD = [
 ];
 
 describe('Service', () => {
+  it('checks receiver safety again before a stored session is read live, however it got into the database', async () => {
+    const t = await serviceWithSession(); // 30 dBm PEP through 50 dB into a receiver rated 10 dBm: safe
+    try {
+      // As a hand-edited database or an old import could hold it: 70 dBm PEP, +20 dBm into the receiver.
+      connectionOf(t.store).prepare('UPDATE sessions SET tx_pep_dbm = 70 WHERE id = ?').run(t.session.id);
+      const r = await t.service.call('openSession', { sessionId: t.session.id });
+      assert.equal(r.ok, false);
+      if (!r.ok) {
+        assert.equal(r.code, 'EUNSAFE');
+        assert.match(r.message, /refused: .*rated maximum of 10 dBm/);
+      }
+      assert.equal((await t.service.invoke('status', {})).live, false);
+      assert.equal(t.store.readings(t.session.id, { limit: 10 }).length, 0, 'the receiver was read');
+    } finally {
+      await t.cleanup();
+    }
+  });
+
   it('refuses a set-up whose receiver input at PEP exceeds the rated maximum (EUNSAFE), and stores nothing', async () => {
     const t = await serviceWithSession();
     try {
