@@ -41,6 +41,8 @@ if (built.status !== 0) {
   process.exit(1);
 }
 mkdirSync('test-artifacts', { recursive: true });
+// The support log of every program the tests start goes beside the other artefacts, not into the user's folder.
+process.env.NULLBENCH_SUPPORT_LOG ??= join(process.cwd(), 'test-artifacts', 'support.jsonl');
 // One seed for every property test (test/helpers/fuzz.ts): a fresh one each run unless FUZZ_SEED replays one.
 if (!process.env.FUZZ_SEED) process.env.FUZZ_SEED = String(Math.floor(Math.random() * 2 ** 31));
 const seedLine = `fuzz seed ${process.env.FUZZ_SEED} (replay this run's property tests: FUZZ_SEED=${process.env.FUZZ_SEED} npm test)`;

@@ -1,6 +1,7 @@
 // Runs in Node. What every call group of the service shares: the handler type of a group's calls, and the
 // context the Service hands each group (the store, how sources are made, the open live bench, events).
 // Types only, so the group files import this and never the Service itself.
+import type { SupportLog } from './supportlog';
 import type { z } from 'zod';
 import type { CALLS, CallName, CallResults, EventPayloads, ParsedArgs, Status } from '../../app/api';
 import type { LiveBench, LiveOptions } from '../live/live';
@@ -34,6 +35,8 @@ export interface ServiceOptions {
   createSource?: (spec: string, env?: SourceEnv) => LevelSource;
   /** Prints a test sheet to PDF: headless Chromium by default; the desktop shell passes its own. */
   pdf?: PdfRenderer;
+  /** Where start, stop, faults, notices and failed calls are recorded (default: the data folder's). */
+  supportLog?: SupportLog;
 }
 
 /** In-process typed call: throws the BenchError a failed call carries. */

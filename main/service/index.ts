@@ -23,6 +23,8 @@ import { ReceiverCalls } from './receivers';
 import { RecordCalls } from './records';
 import { SessionCalls } from './session';
 import { SpectrumCalls } from './spectrum';
+import { SupportLog } from './supportlog';
+import { VERSION } from './session';
 
 export { VERSION } from './session';
 export type { Handlers, Invoke, ServiceOptions } from './handlers';
@@ -36,9 +38,15 @@ export class Service {
   readonly plans: PlanCalls;
   readonly spectrum: SpectrumCalls;
 
+  private readonly log: SupportLog;
+  private linkFaulted = false;
+
   constructor(opts: ServiceOptions) {
     this.store = opts.store;
     this.events.setMaxListeners(100);
+    // A scratch database in memory (the demo's, a test's) leaves nothing for support to read.
+    this.log = opts.supportLog ?? new SupportLog(opts.store.file === ':memory:' ? null : undefined);
+    this.log.write({ event: 'start', version: VERSION, mode: opts.mode, database: opts.store.file });
     const pdf = opts.pdf ?? chromiumPdf;
     const ctx: ServiceContext = {
       store: opts.store,
@@ -47,7 +55,10 @@ export class Service {
       makeSource: opts.createSource ?? createSource,
       pdf: () => pdf,
       live: () => this.session.bench,
-      emit: (event, payload) => this.events.emit(event, payload),
+      emit: (event, payload) => {
+        this.record(event, payload);
+        return this.events.emit(event, payload);
+      },
     };
     this.receivers = new ReceiverCalls(ctx);
     this.spectrum = new SpectrumCalls(ctx);
@@ -81,7 +92,24 @@ export class Service {
       const value = await (this.handlers[name] as (a: unknown) => unknown)(parsed.data);
       return { ok: true, value };
     } catch (e) {
-      return toFailure(e);
+      const f = toFailure(e);
+      this.log.write({ event: 'failure', call: name, code: f.code, field: f.field ?? null, message: f.message });
+      return f;
+    }
+  }
+
+  /** What support needs from the events: every notice, and a link that comes back after a fault. */
+  private record(event: string, payload: unknown): void {
+    if (event === 'notice') {
+      const n = payload as { level: string; code?: string | null; message: string };
+      this.log.write({ event: 'notice', level: n.level, code: n.code ?? null, message: n.message });
+    } else if (event === 'status') {
+      const s = payload as Status;
+      if (s.lastError) this.linkFaulted = true;
+      else if (this.linkFaulted && s.live) {
+        this.linkFaulted = false;
+        this.log.write({ event: 'link-restored', source: s.source });
+      }
     }
   }
 
@@ -103,5 +131,6 @@ export class Service {
 
   async close(): Promise<void> {
     await this.session.close();
+    this.log.write({ event: 'stop' });
   }
 }

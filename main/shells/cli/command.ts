@@ -1,5 +1,6 @@
 // Runs in Node. What every CLI command is: a record with its name, one-line summary, usage text and run().
 import { parseArgs, type ParseArgsConfig } from 'node:util';
+import { SupportLog } from '../../service/supportlog';
 import { BenchError, errorText } from '../../../app/errors';
 
 export interface Io {
@@ -42,11 +43,21 @@ export function numberOption(value: string | undefined, name: string, fallback?:
 
 /** Prints a BenchError the way every command does, and picks the exit code. */
 export function reportError(e: unknown, io: Io): number {
+  const log = new SupportLog();
   if (e instanceof BenchError) {
     io.err(`error (${e.code}): ${errorText(e)}\n`);
+    log.write({
+      event: 'failure',
+      call: 'command line',
+      code: e.code,
+      field: e.field ?? null,
+      message: e.message,
+    });
     return e.code === 'EINVAL' ? 2 : 1;
   }
-  io.err(`error: ${e instanceof Error ? e.message : String(e)}\n`);
+  const message = e instanceof Error ? e.message : String(e);
+  io.err(`error: ${message}\n`);
+  log.write({ event: 'failure', call: 'command line', code: 'EIO', field: null, message });
   return 1;
 }
 

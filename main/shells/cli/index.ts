@@ -16,6 +16,8 @@ import { readCommand } from './read';
 import { receiversCommand } from './receivers';
 import { serveCommand } from './serve';
 import { templatesCommand } from './templates';
+import { defaultDbPath } from '../../paths';
+import { supportLogPath } from '../../service/supportlog';
 
 export const COMMANDS: Command[] = [
   readCommand,
@@ -44,7 +46,11 @@ export function usage(): string {
     'nullbench: measure and align carrier suppression of DSB/SSB transmitters\n\n' +
     'Usage: nullbench COMMAND [options]    (nullbench COMMAND --help for its options)\n\nCommands:\n' +
     COMMANDS.map((c) => `  ${c.name.padEnd(w)}  ${c.summary}`).join('\n') +
-    '\n'
+    '\n\n' +
+    `Database (default): ${defaultDbPath()}\n` +
+    `Support log (start and stop, link faults, errors with their codes; nothing secret): ${
+      supportLogPath() ?? 'off (NULLBENCH_SUPPORT_LOG=off)'
+    }\n`
   );
 }
 
