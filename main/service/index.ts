@@ -93,7 +93,13 @@ export class Service {
       return { ok: true, value };
     } catch (e) {
       const f = toFailure(e);
-      this.log.write({ event: 'failure', call: name, code: f.code, field: f.field ?? null, message: f.message });
+      this.log.write({
+        event: 'failure',
+        call: name,
+        code: f.code,
+        field: f.field ?? null,
+        message: f.message,
+      });
       return f;
     }
   }

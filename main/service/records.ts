@@ -14,6 +14,8 @@ import { compareDesign, loadSessionResult } from '../sheet/results';
 const UPLOAD_TTL_MS = 10 * 60_000;
 const UPLOAD_MAX_CHARS = 200 * 1024 * 1024;
 const MAX_UPLOADS = 4;
+/** All the parts held for every upload at once: the server's memory is not a guesser's to fill. */
+export const UPLOADS_MAX_CHARS_TOTAL = 256 * 1024 * 1024;
 
 export class RecordCalls {
   private readonly uploads = new Map<string, { parts: (string | undefined)[]; chars: number; at: number }>();
@@ -93,6 +95,23 @@ export class RecordCalls {
         const now = Date.now();
         for (const [id, u] of uploads) if (now - u.at > UPLOAD_TTL_MS) uploads.delete(id);
         let u = uploads.get(a.uploadId);
+        // Every check of this part comes before it takes a slot or any memory.
+        if (a.part >= a.parts) throw new BenchError('EINVAL', `must be below ${a.parts}`, 'part');
+        if (u && u.parts.length !== a.parts)
+          throw new BenchError('EINVAL', `this upload has ${u.parts.length} parts, not ${a.parts}`, 'parts');
+        const grows = a.text.length - (u?.parts[a.part]?.length ?? 0);
+        if ((u?.chars ?? 0) + grows > UPLOAD_MAX_CHARS) {
+          uploads.delete(a.uploadId);
+          throw new BenchError('EINVAL', 'the bundle is larger than 200 MB', 'text');
+        }
+        let held = 0;
+        for (const x of uploads.values()) held += x.chars;
+        if (held + grows > UPLOADS_MAX_CHARS_TOTAL)
+          throw new BenchError(
+            'ECONFLICT',
+            'imports under way already hold 256 MB: wait for one to finish',
+            'uploadId',
+          );
         if (!u && uploads.size >= MAX_UPLOADS)
           throw new BenchError(
             'ECONFLICT',
@@ -103,14 +122,7 @@ export class RecordCalls {
           u = { parts: new Array<string | undefined>(a.parts).fill(undefined), chars: 0, at: now };
           uploads.set(a.uploadId, u);
         }
-        if (u.parts.length !== a.parts)
-          throw new BenchError('EINVAL', `this upload has ${u.parts.length} parts, not ${a.parts}`, 'parts');
-        if (a.part >= a.parts) throw new BenchError('EINVAL', `must be below ${a.parts}`, 'part');
-        u.chars += a.text.length - (u.parts[a.part]?.length ?? 0);
-        if (u.chars > UPLOAD_MAX_CHARS) {
-          uploads.delete(a.uploadId);
-          throw new BenchError('EINVAL', 'the bundle is larger than 200 MB', 'text');
-        }
+        u.chars += grows;
         u.parts[a.part] = a.text;
         u.at = now;
         if (u.parts.some((p) => p === undefined)) return null;

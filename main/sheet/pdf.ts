@@ -26,8 +26,32 @@ export function footerTemplate(text: string): string {
   return `<div style="font-family:'DejaVu Sans',sans-serif;font-size:7px;color:#5b6f74;width:100%;padding:0 13mm;display:flex;justify-content:space-between"><span>${esc}</span><span>page <span class="pageNumber"></span> of <span class="totalPages"></span></span></div>`;
 }
 
-/** Headless Chromium through playwright-core: A4, backgrounds printed, a footer with page numbers. */
-export const chromiumPdf: PdfRenderer = async (html, footer) => {
+/** At most this many Chromium processes print at once: each takes hundreds of MB. */
+export const MAX_PRINTS = 2;
+
+/**
+ * A queue in front of a PDF renderer: at most `max` print at once, the rest wait their turn in order (a
+ * failed print frees its place like a finished one).
+ */
+export function queuedPdf(render: PdfRenderer, max = MAX_PRINTS): PdfRenderer & { running(): number } {
+  let running = 0;
+  const waiting: (() => void)[] = [];
+  const queued = async (html: string, footer: string) => {
+    if (running >= max) await new Promise<void>((go) => waiting.push(go));
+    else running++;
+    try {
+      return await render(html, footer);
+    } finally {
+      const next = waiting.shift();
+      if (next) next();
+      else running--;
+    }
+  };
+  return Object.assign(queued, { running: () => running });
+}
+
+/** Headless Chromium through playwright-core, queued (MAX_PRINTS at once): A4, backgrounds, page numbers. */
+export const chromiumPdf: PdfRenderer = queuedPdf(async (html, footer) => {
   const exe = chromiumPath();
   if (!existsSync(exe))
     throw new BenchError(
@@ -56,4 +80,4 @@ export const chromiumPdf: PdfRenderer = async (html, footer) => {
   } finally {
     await browser.close();
   }
-};
+});

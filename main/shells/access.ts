@@ -13,9 +13,12 @@ const TOKEN_TEXT = /^nbt_[A-Za-z0-9_-]{43}$/;
 export const COOKIE_NAME = 'nullbench_session';
 /** A browser session lasts this long from sign-in, ms (a long bench evening). */
 export const SESSION_MS = 12 * 3600_000;
-/** Failed sign-ins allowed per client address within FAIL_WINDOW_MS before it has to wait. */
-export const MAX_FAILURES = 10;
+/** Wrong tokens a client address may try within FAIL_WINDOW_MS before every check it makes is held back. */
+export const MAX_FAILURES = 3;
 export const FAIL_WINDOW_MS = 5 * 60_000;
+/** The hold after the first wrong tries past MAX_FAILURES, doubling with each more, up to GUESS_MAX_DELAY_MS. */
+export const GUESS_BASE_DELAY_MS = 250;
+export const GUESS_MAX_DELAY_MS = 8_000;
 
 function sha256(text: string): Buffer {
   return createHash('sha256').update(text, 'utf8').digest();
@@ -62,43 +65,73 @@ export class AccessTokens {
   }
 }
 
-export type LoginResult =
-  { ok: true; cookie: string } | { ok: false; status: 401 | 429; message: string; retryAfterS?: number };
+export type LoginResult = { ok: true; cookie: string } | { ok: false; status: 401; message: string };
 
 /**
  * The gate in front of the web shell: signs browsers in (token -> cookie), checks each request's cookie or
- * bearer token, and slows down a client that keeps guessing. Browser sessions live in memory only: a
- * restarted server asks everyone to sign in again.
+ * bearer token, and slows down a client that keeps guessing. One limiter covers every token check, sign-in
+ * and bearer alike: past MAX_FAILURES wrong tokens in FAIL_WINDOW_MS, each check from that address waits its
+ * turn behind a growing delay (one at a time, so parallel guesses gain nothing). The right token is never
+ * refused, only answered after the wait. Browser sessions live in memory only: a restarted server asks
+ * everyone to sign in again.
  */
 export class WebAccess {
   private readonly sessions = new Map<string, number>();
   private readonly failures = new Map<string, number[]>();
+  /** Per client: when its next token check may run (checks from one address queue behind each other). */
+  private readonly nextCheck = new Map<string, number>();
 
   constructor(
     readonly tokens: AccessTokens,
     private readonly clock: () => number = Date.now,
+    private readonly wait: (ms: number) => Promise<void> = (ms) => new Promise((r) => setTimeout(r, ms)),
   ) {}
 
-  login(token: unknown, client: string): LoginResult {
+  /** How long a check from this client is held now, ms: 0 until it has guessed wrong MAX_FAILURES times. */
+  holdMs(client: string): number {
+    const now = this.clock();
+    const n = (this.failures.get(client) ?? []).filter((t) => now - t < FAIL_WINDOW_MS).length;
+    return n < MAX_FAILURES ? 0 : Math.min(GUESS_MAX_DELAY_MS, GUESS_BASE_DELAY_MS * 2 ** (n - MAX_FAILURES));
+  }
+
+  /** Checks a token from a client, after the client's hold; a wrong one lengthens the hold. */
+  private async check(token: unknown, client: string): Promise<boolean> {
+    const hold = this.holdMs(client);
+    if (hold > 0) {
+      const now = this.clock();
+      const at = Math.max(now, this.nextCheck.get(client) ?? 0) + hold;
+      this.nextCheck.set(client, at);
+      await this.wait(at - now);
+    }
+    if (this.tokens.verify(token)) {
+      this.failures.delete(client);
+      this.nextCheck.delete(client);
+      return true;
+    }
     const now = this.clock();
     const recent = (this.failures.get(client) ?? []).filter((t) => now - t < FAIL_WINDOW_MS);
-    if (recent.length >= MAX_FAILURES) {
-      this.failures.set(client, recent);
+    recent.push(now);
+    // A scan from many addresses cannot grow the table without end.
+    if (this.failures.size > 10_000) {
+      this.failures.clear();
+      this.nextCheck.clear();
+    }
+    this.failures.set(client, recent);
+    return false;
+  }
+
+  async login(token: unknown, client: string): Promise<LoginResult> {
+    if (!(await this.check(token, client))) {
+      const hold = this.holdMs(client);
       return {
         ok: false,
-        status: 429,
-        message: `too many failed sign-ins from ${client}; wait a few minutes`,
-        retryAfterS: Math.ceil((FAIL_WINDOW_MS - (now - recent[0])) / 1000),
+        status: 401,
+        message:
+          'that is not the access token of this server' +
+          (hold > 0 ? `; the next try from ${client} is answered after ${(hold / 1000).toFixed(2)} s` : ''),
       };
     }
-    if (!this.tokens.verify(token)) {
-      recent.push(now);
-      // Old entries go, so a scan from many addresses cannot grow the table without end.
-      if (this.failures.size > 10_000) this.failures.clear();
-      this.failures.set(client, recent);
-      return { ok: false, status: 401, message: 'that is not the access token of this server' };
-    }
-    this.failures.delete(client);
+    const now = this.clock();
     this.prune(now);
     const id = randomBytes(32).toString('base64url');
     this.sessions.set(id, now + SESSION_MS);
@@ -111,7 +144,7 @@ export class WebAccess {
   }
 
   /** True when the request carries a live session cookie or the active token as a bearer token. */
-  allows(req: IncomingMessage): boolean {
+  async allows(req: IncomingMessage): Promise<boolean> {
     const id = cookieOf(req);
     if (id) {
       const until = this.sessions.get(id);
@@ -120,7 +153,7 @@ export class WebAccess {
     }
     const auth = req.headers.authorization;
     if (typeof auth === 'string' && auth.startsWith('Bearer '))
-      return this.tokens.verify(auth.slice(7).trim());
+      return this.check(auth.slice(7).trim(), req.socket.remoteAddress ?? 'unknown');
     return false;
   }
 

@@ -93,8 +93,16 @@ function readBody(req: IncomingMessage): Promise<string> {
   });
 }
 
+/** A comment line on the event stream this often, so proxies and the browser see the stream is alive, ms. */
+export const HEARTBEAT_MS = 15_000;
+/** What the browser waits before reconnecting a dropped stream, ms (the stream's retry field). */
+export const RETRY_MS = 2_000;
+/** A client that has not taken this many bytes of the stream is dropped (it reconnects and starts afresh). */
+export const MAX_UNSENT_BYTES = 1024 * 1024;
+
 export class WebShell {
   readonly server: Server;
+  private heartbeat: NodeJS.Timeout | null = null;
   private readonly opts: Required<Omit<WebOptions, 'access'>>;
   private readonly access: WebAccess | null;
   private readonly root: string;
@@ -130,10 +138,21 @@ export class WebShell {
     for (const ev of EVENTS) {
       this.unsubs.push(
         this.opts.service.listen(ev, (payload) => {
-          const line = `event: ${ev}\ndata: ${JSON.stringify(payload)}\n\n`;
-          for (const c of this.clients) c.write(line);
+          this.broadcast(`event: ${ev}\ndata: ${JSON.stringify(payload)}\n\n`);
         }),
       );
+    }
+  }
+
+  /** Writes to every stream; a client that stopped reading (too much unsent) is dropped, not buffered for. */
+  private broadcast(text: string): void {
+    for (const c of this.clients) {
+      if (c.writableLength > MAX_UNSENT_BYTES) {
+        this.clients.delete(c);
+        c.destroy();
+        continue;
+      }
+      c.write(text);
     }
   }
 
@@ -157,6 +176,8 @@ export class WebShell {
 
   async close(): Promise<void> {
     this.unsubs.forEach((u) => u());
+    if (this.heartbeat) clearInterval(this.heartbeat);
+    this.heartbeat = null;
     for (const c of this.clients) c.end();
     this.clients.clear();
     await new Promise<void>((ok) => this.server.close(() => ok()));
@@ -167,9 +188,11 @@ export class WebShell {
     const bound = WILDCARDS.has(this.opts.host) ? [] : [this.opts.host];
     const names = ['127.0.0.1', 'localhost', '[::1]', ...bound, ...this.opts.allowedHosts];
     return new Set(
-      names.map((n) => {
-        const h = n.toLowerCase();
-        return `${h.includes(':') && !h.startsWith('[') ? `[${h}]` : h}:${this.port}`;
+      names.flatMap((n) => {
+        const l = n.toLowerCase();
+        const h = l.includes(':') && !l.startsWith('[') ? `[${l}]` : l;
+        // On the default port a browser names the host alone.
+        return this.port === 80 ? [`${h}:80`, h] : [`${h}:${this.port}`];
       }),
     );
   }
@@ -211,6 +234,11 @@ export class WebShell {
     }
     const path = url.pathname;
     const isApi = path.startsWith('/api/');
+    // A second Host header is dropped by Node's parser: whichever one a proxy read, the request is ambiguous.
+    let hostHeaders = 0;
+    for (let i = 0; i < req.rawHeaders.length; i += 2)
+      if (req.rawHeaders[i].toLowerCase() === 'host') hostHeaders++;
+    if (hostHeaders > 1) return fail(res, 400, 'EINVAL', 'more than one Host header');
     const denied = this.refused(req, isApi);
     if (denied) return fail(res, 403, 'EREJECTED', denied);
 
@@ -220,7 +248,7 @@ export class WebShell {
       this.access.logout(req);
       return send(res, 204, '', undefined, { 'Set-Cookie': clearedCookie() });
     }
-    if (this.access && !PUBLIC_PATHS.has(path) && !this.access.allows(req)) {
+    if (this.access && !PUBLIC_PATHS.has(path) && !(await this.access.allows(req))) {
       if (
         !isApi &&
         (req.method === 'GET' || req.method === 'HEAD') &&
@@ -259,9 +287,15 @@ export class WebShell {
         'Content-Type': 'text/event-stream',
         Connection: 'keep-alive',
       });
-      res.write(`event: status\ndata: ${JSON.stringify(this.opts.service.status())}\n\n`);
+      res.write(
+        `retry: ${RETRY_MS}\n\nevent: status\ndata: ${JSON.stringify(this.opts.service.status())}\n\n`,
+      );
       this.clients.add(res);
       req.on('close', () => this.clients.delete(res));
+      if (!this.heartbeat) {
+        this.heartbeat = setInterval(() => this.broadcast(': alive\n\n'), HEARTBEAT_MS);
+        this.heartbeat.unref();
+      }
       return;
     }
     if (isApi) return fail(res, 404, 'ENOTFOUND', `no API endpoint ${path}`);
@@ -283,11 +317,8 @@ export class WebShell {
     } catch {
       return fail(res, 400, 'EINVAL', 'expected {"token": "nbt_..."}');
     }
-    const r = access.login(token, req.socket.remoteAddress ?? 'unknown');
-    if (!r.ok) {
-      const extra: Record<string, string> = r.retryAfterS ? { 'Retry-After': String(r.retryAfterS) } : {};
-      return fail(res, r.status, 'EREJECTED', r.message, extra);
-    }
+    const r = await access.login(token, req.socket.remoteAddress ?? 'unknown');
+    if (!r.ok) return fail(res, r.status, 'EREJECTED', r.message);
     return send(res, 204, '', undefined, { 'Set-Cookie': sessionCookie(r.cookie) });
   }
 

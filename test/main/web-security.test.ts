@@ -8,8 +8,17 @@ import { mkdirSync, readFileSync, symlinkSync, writeFileSync, existsSync } from 
 import { join } from 'node:path';
 import { Service } from '../../main/service';
 import { Store } from '../../main/store/store';
-import { AccessTokens, COOKIE_NAME, MAX_FAILURES, SESSION_MS, WebAccess } from '../../main/shells/access';
-import { CSP, WebShell } from '../../main/shells/web';
+import {
+  AccessTokens,
+  COOKIE_NAME,
+  FAIL_WINDOW_MS,
+  GUESS_BASE_DELAY_MS,
+  MAX_FAILURES,
+  SESSION_MS,
+  WebAccess,
+} from '../../main/shells/access';
+import { CSP, RETRY_MS, WebShell } from '../../main/shells/web';
+import { connect } from 'node:net';
 import { startWeb, type Served } from '../../main/shells/cli/serve';
 import { runCli } from '../helpers/cli';
 import { rawRequest, type RawResponse } from '../helpers/http';
@@ -26,6 +35,9 @@ interface Rig {
   access: WebAccess | null;
   tmp: string;
   now: { ms: number };
+  /** The guessing limiter's holds, ms, in order. */
+  holds: number[];
+  web: WebShell;
   stop(): Promise<void>;
 }
 
@@ -47,7 +59,18 @@ async function rig(withAccess: boolean): Promise<Rig> {
   const store = new Store(join(tmp.dir, 'web.db'));
   const service = new Service({ store, mode: 'web' });
   const now = { ms: Date.now() };
-  const access = withAccess ? new WebAccess(new AccessTokens(store), () => now.ms) : null;
+  // The guessing limiter waits on this clock: each hold is recorded and passes at once.
+  const holds: number[] = [];
+  const access = withAccess
+    ? new WebAccess(
+        new AccessTokens(store),
+        () => now.ms,
+        async (ms) => {
+          holds.push(ms);
+          now.ms += ms;
+        },
+      )
+    : null;
   const token = access ? access.tokens.issue() : null;
   const web = new WebShell({ service, port: 0, staticDir, access });
   await web.listen();
@@ -58,6 +81,8 @@ async function rig(withAccess: boolean): Promise<Rig> {
     access,
     tmp: tmp.dir,
     now,
+    holds,
+    web,
     async stop() {
       await web.close();
       await service.close();
@@ -82,6 +107,11 @@ function openAttacks(): Attack[] {
   const call = (headers: string, body = pwn, type = 'application/json') =>
     `POST /api/call/createDesign HTTP/1.1\nHost: HOST\nContent-Type: ${type}\n${headers}Content-Length: ${Buffer.byteLength(body)}\nConnection: close`;
   return [
+    {
+      name: 'two Host headers (the right one and a foreign one)',
+      head: 'GET / HTTP/1.1\nHost: HOST\nHost: attacker.example:PORT\nConnection: close',
+      refused: [400],
+    },
     // DNS rebinding: a name the attacker controls now points at 127.0.0.1.
     {
       name: 'rebinding: page load under a foreign Host',
@@ -323,6 +353,18 @@ function assertProtective(r: RawResponse, what: string): void {
 
 let refusedTotal = 0;
 
+/** Signs in with the rig's token and returns the session cookie ("name=value"). */
+async function signedIn(r: Rig): Promise<string> {
+  const body = JSON.stringify({ token: r.token });
+  const login = await rawRequest(
+    r.port,
+    `POST /api/login HTTP/1.1\nHost: 127.0.0.1:${r.port}\nContent-Type: application/json\nContent-Length: ${body.length}\nConnection: close`,
+    body,
+  );
+  assert.equal(login.status, 204, login.body);
+  return login.headers['set-cookie'].split(';')[0];
+}
+
 describe('WebShell attack suite (no token: 127.0.0.1)', { timeout: 60_000 }, () => {
   let r: Rig;
   before(async () => (r = await rig(false)));
@@ -496,8 +538,9 @@ describe('WebShell attack suite (access token required)', { timeout: 60_000 }, (
     }
   });
 
-  it(`slows a guesser down: after ${MAX_FAILURES} wrong tokens even the right one waits`, async () => {
-    const attempt = (token: string) => {
+  it(`slows every guesser (sign-in and bearer alike) after ${MAX_FAILURES} wrong tokens, never refusing the right one`, async () => {
+    r.now.ms += FAIL_WINDOW_MS + 1; // earlier tests' wrong tokens have aged out
+    const signIn = (token: string) => {
       const body = JSON.stringify({ token });
       return rawRequest(
         r.port,
@@ -505,18 +548,81 @@ describe('WebShell attack suite (access token required)', { timeout: 60_000 }, (
         body,
       );
     };
-    for (let i = 0; i < MAX_FAILURES; i++) assert.equal((await attempt(`nbt_${'C'.repeat(43)}`)).status, 401);
-    const blocked = await attempt(r.token!);
-    assert.equal(blocked.status, 429);
-    assert.ok(Number(blocked.headers['retry-after']) > 0);
-    r.now.ms += 5 * 60_000 + 1;
-    assert.equal((await attempt(r.token!)).status, 204);
-    refusedTotal += MAX_FAILURES + 1;
+    const bearer = (token: string) =>
+      rawRequest(
+        r.port,
+        `POST /api/call/status HTTP/1.1\nHost: 127.0.0.1:${r.port}\nAuthorization: Bearer ${token}\nContent-Type: application/json\nContent-Length: 2\nConnection: close`,
+        '{}',
+      );
+    const wrong = `nbt_${'C'.repeat(43)}`;
+    r.holds.length = 0;
+    // Wrong tries up to the limit, mixed: each answered at once.
+    assert.equal((await signIn(wrong)).status, 401);
+    assert.equal((await bearer(wrong)).status, 401);
+    for (let i = 2; i < MAX_FAILURES; i++) assert.equal((await signIn(wrong)).status, 401);
+    assert.deepEqual(r.holds, []);
+    // Past it, every check is held, doubling: bearer guesses count the same as sign-ins.
+    const last = await bearer(wrong);
+    assert.equal(last.status, 401);
+    const again = await signIn(wrong);
+    assert.equal(again.status, 401);
+    assert.match(again.body, /next try from .* is answered after 1\.00 s/);
+    assert.deepEqual(r.holds, [GUESS_BASE_DELAY_MS, 2 * GUESS_BASE_DELAY_MS]);
+    // The right token waits its turn too, and is let in: never locked out.
+    assert.equal((await signIn(r.token!)).status, 204);
+    assert.deepEqual(r.holds, [GUESS_BASE_DELAY_MS, 2 * GUESS_BASE_DELAY_MS, 4 * GUESS_BASE_DELAY_MS]);
+    assert.equal((await bearer(r.token!)).status, 200);
+    assert.equal(r.holds.length, 3, 'held again after the right token was given');
+    refusedTotal += MAX_FAILURES + 2;
+  });
+
+  it('starts the live stream with a retry hint, and drops a client that stops reading', async () => {
+    const cookie = await signedIn(r);
+    const sock = connect(r.port, '127.0.0.1');
+    let first = '';
+    await new Promise<void>((resolve) => {
+      sock.on('data', (b: Buffer) => {
+        first += b.toString('latin1');
+        if (/event: status/.test(first)) {
+          sock.pause(); // from here on it reads nothing
+          resolve();
+        }
+      });
+      sock.write(`GET /api/events HTTP/1.1\r\nHost: 127.0.0.1:${r.port}\r\nCookie: ${cookie}\r\n\r\n`);
+    });
+    assert.match(first, new RegExp(`\nretry: ${RETRY_MS}\n`));
+    const shell = r.web as unknown as { clients: Set<unknown>; broadcast(text: string): void };
+    assert.equal(shell.clients.size, 1);
+    const chunk = `: ${'x'.repeat(64 * 1024)}\n\n`;
+    for (let i = 0; i < 200 && shell.clients.size > 0; i++) {
+      shell.broadcast(chunk);
+      await new Promise((res) => setImmediate(res));
+    }
+    assert.equal(shell.clients.size, 0, 'a client that reads nothing is still being buffered for');
+    sock.destroy();
   });
 
   after(() => {
     // The figure for the closing note: every attack above was refused.
     process.stdout.write(`# web attack suite: ${refusedTotal} attempts refused\n`);
+  });
+});
+
+describe('WebShell on the default port', () => {
+  it('accepts a Host without a port there, as browsers send it on port 80, and nothing else', () => {
+    const store = new Store(':memory:');
+    const service = new Service({ store, mode: 'web' });
+    try {
+      const shell = new WebShell({ service, port: 80 }) as unknown as { hosts(): Set<string> };
+      const hosts = shell.hosts();
+      for (const h of ['127.0.0.1', 'localhost', '[::1]', '127.0.0.1:80']) assert.ok(hosts.has(h), h);
+      assert.ok(!hosts.has('127.0.0.1:8747'));
+      const other = new WebShell({ service, port: 8747 }) as unknown as { hosts(): Set<string> };
+      assert.ok(!other.hosts().has('127.0.0.1'), 'a Host without a port on another port');
+    } finally {
+      void service.close();
+      store.close();
+    }
   });
 });
 
