@@ -8,6 +8,31 @@ import { runBin, runCli } from '../helpers/cli';
 import { tempDir } from '../helpers/tmp';
 
 describe('nullbench CLI', () => {
+  it('leaves no database behind when a command fails before storing anything, and keeps one that was there', async () => {
+    const tmp = tempDir();
+    try {
+      const db = join(tmp.dir, 'never.db');
+      const failing = [
+        ['plan', 'run', '--unit', 'NO-SUCH', '--db', db],
+        ['receivers', 'add', '--name', 'R', '--source', 'bogus', '--db', db],
+        ['templates', 'show', 'nothing', '--db', db],
+        ['plan', 'show', 'no-such-plan', `--db=${db}`],
+      ];
+      for (const args of failing) {
+        const r = await runCli(args);
+        assert.notEqual(r.code, 0, args.join(' '));
+        assert.ok(!existsSync(db), `${args.join(' ')} left ${db}`);
+      }
+      // A database that existed before the command is never removed, empty or not.
+      assert.equal((await runCli(['plan', 'list', '--db', db])).code, 0);
+      assert.ok(existsSync(db));
+      assert.notEqual((await runCli(['plan', 'show', 'no-such-plan', '--db', db])).code, 0);
+      assert.ok(existsSync(db), 'an existing database was removed');
+    } finally {
+      tmp.cleanup();
+    }
+  });
+
   it('lists its commands on --help', async () => {
     const r = await runCli(['--help']);
     assert.equal(r.code, 0);

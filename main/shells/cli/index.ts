@@ -16,7 +16,9 @@ import { readCommand } from './read';
 import { receiversCommand } from './receivers';
 import { serveCommand } from './serve';
 import { templatesCommand } from './templates';
+import { existsSync } from 'node:fs';
 import { defaultDbPath } from '../../paths';
+import { discardIfEmpty } from '../../store/db';
 import { supportLogPath } from '../../service/supportlog';
 
 export const COMMANDS: Command[] = [
@@ -74,5 +76,25 @@ export async function main(argv: string[], io: Io): Promise<number> {
     io.err(`error (EINVAL): unknown command "${name}"\n\n${usage()}`);
     return 2;
   }
-  return cmd.run(rest, io);
+  // A command that fails leaves no database behind that it made itself and stored nothing in.
+  const db = databaseOf(rest);
+  const isNew = db !== ':memory:' && !existsSync(db);
+  const code = await cmd.run(rest, io);
+  if (code !== 0 && isNew) {
+    try {
+      discardIfEmpty(db);
+    } catch {
+      // Whatever is there stays: removing it was only tidying.
+    }
+  }
+  return code;
+}
+
+/** The database a command's arguments name (--db FILE or --db=FILE), else the default one. */
+function databaseOf(args: string[]): string {
+  for (let i = 0; i < args.length; i++) {
+    if (args[i] === '--db' && args[i + 1] !== undefined) return args[i + 1];
+    if (args[i].startsWith('--db=')) return args[i].slice(5);
+  }
+  return defaultDbPath();
 }
