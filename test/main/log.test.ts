@@ -181,11 +181,47 @@ describe('nullbench log', () => {
       [['--max-input-dbm', '10'], /--tx-pep-dbm: is required/],
       [['--tx-pep-dbm', '30', '--max-input-dbm', '10', '--carrier-hz', '-5'], /--carrier-hz: /],
       [['--source', 'radio', ...SETUP], /source: unknown source "radio"/],
+      [
+        ['--pep-w', '1', ...SETUP],
+        /--pep-w: give the PEP once: --tx-pep-dbm \(dBm\) or --pep-w \(W\), not both/,
+      ],
+      [['--pep-w', '0', '--max-input-dbm', '10'], /--pep-w: must be above 0 W/],
     ];
     for (const [args, want] of cases) {
       const r = await runCli(['log', '--db', ':memory:', ...args]);
       assert.equal(r.code, 2, args.join(' '));
       assert.match(r.err, want);
+    }
+  });
+});
+
+describe('the PEP in watts or dBm', () => {
+  it('takes --pep-w as well as --tx-pep-dbm, as plan run does: 1 W is 30 dBm (P = 10 log10(P / 1 mW))', async () => {
+    const tmp = tempDir();
+    try {
+      const db = join(tmp.dir, 'log.db');
+      const r = await runCli([
+        'log',
+        '--db',
+        db,
+        '--source',
+        'sim:fast',
+        '--for-s',
+        '0.1',
+        '--pep-w',
+        '1',
+        '--max-input-dbm',
+        '10',
+        '--path',
+        'pad:50',
+      ]);
+      assert.equal(r.code, 0, r.err);
+      const conn = new Database(db, { readonly: true });
+      const s = conn.prepare('SELECT tx_pep_dbm FROM sessions').get() as { tx_pep_dbm: number };
+      conn.close();
+      assert.ok(Math.abs(s.tx_pep_dbm - 30) < 1e-12, String(s.tx_pep_dbm));
+    } finally {
+      tmp.cleanup();
     }
   });
 });

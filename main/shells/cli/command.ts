@@ -41,6 +41,29 @@ export function numberOption(value: string | undefined, name: string, fallback?:
   return n;
 }
 
+/**
+ * The transmitter's peak envelope power from --tx-pep-dbm (dBm) or --pep-w (W): every command that declares a
+ * set-up takes either, and exactly one. Returns dBm.
+ */
+export function pepOption(values: { 'tx-pep-dbm'?: string; 'pep-w'?: string }): number {
+  const dbm = values['tx-pep-dbm'];
+  const w = values['pep-w'];
+  if (dbm !== undefined && w !== undefined)
+    throw new BenchError(
+      'EINVAL',
+      'give the PEP once: --tx-pep-dbm (dBm) or --pep-w (W), not both',
+      '--pep-w',
+    );
+  if (w !== undefined) {
+    const watts = numberOption(w, 'pep-w');
+    if (!(watts > 0)) throw new BenchError('EINVAL', `must be above 0 W, got ${watts}`, '--pep-w');
+    return 10 * Math.log10(watts * 1000);
+  }
+  if (dbm === undefined)
+    throw new BenchError('EINVAL', 'is required: the PEP in dBm, or --pep-w in W', '--tx-pep-dbm');
+  return numberOption(dbm, 'tx-pep-dbm');
+}
+
 /** Prints a BenchError the way every command does, and picks the exit code. */
 export function reportError(e: unknown, io: Io): number {
   const log = new SupportLog();

@@ -14,6 +14,7 @@ import { existsSync } from 'node:fs';
 import {
   joinNegativeNumbers,
   numberOption,
+  pepOption,
   parseOptions,
   reportError,
   type Command,
@@ -34,6 +35,7 @@ const SETUP_OPTIONS = [
   'carrier-hz',
   'tone-hz',
   'tx-pep-dbm',
+  'pep-w',
   'max-input-dbm',
   'bandwidth-hz',
   'operator',
@@ -69,10 +71,10 @@ Where the readings go:
   --revision NAME      its board revision (default "${DEFAULT_REVISION}"), created if new
 Set-up of a new session (the receiver safety check runs before anything is read):
   --source SPEC        ${SOURCES.map((s) => s.syntax).join(' | ')} (default sim)
-  --tx-pep-dbm P       the transmitter's peak envelope power, dBm (required)
+  --tx-pep-dbm P       the transmitter's peak envelope power, dBm (or --pep-w W, in watts; one is required)
   --max-input-dbm M    the receiver's rated maximum input, dBm (required)
   --path ELEMENTS      signal path from the transmitter to the receiver, e.g. coupler:30,pad:20
-  --carrier-hz F       carrier frequency (default 7100000)
+  --carrier-hz F       the carrier's absolute frequency, Hz (default 7100000)
   --tone-hz F          audio tone offset of the sidebands (default 1000)
   --bandwidth-hz B     receiver measurement bandwidth (default 500)
   --operator NAME, --notes TEXT
@@ -95,6 +97,7 @@ Refused when the receiver input at the declared PEP through the path would excee
         'carrier-hz': { type: 'string' },
         'tone-hz': { type: 'string' },
         'tx-pep-dbm': { type: 'string' },
+        'pep-w': { type: 'string' },
         'max-input-dbm': { type: 'string' },
         'bandwidth-hz': { type: 'string' },
         operator: { type: 'string' },
@@ -209,7 +212,7 @@ function unitNames(store: Store, v: Values): { design: string; revision: string;
 }
 
 async function newSession(service: Service, store: Store, v: Values): Promise<Session> {
-  const txPepDbm = numberOption(v['tx-pep-dbm'], 'tx-pep-dbm');
+  const txPepDbm = pepOption(v);
   const maxInputDbm = numberOption(v['max-input-dbm'], 'max-input-dbm');
   const path = parsePathSpec(v.path ?? '');
   const source = (v.source ?? 'sim').trim();

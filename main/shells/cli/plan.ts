@@ -9,10 +9,10 @@ import { defaultDbPath } from '../../paths';
 import { Service } from '../../service';
 import { Store } from '../../store/store';
 import { prompter } from './ask';
-import { numberOption, parseOptions, reportError, type Command, type Io } from './command';
+import { numberOption, parseOptions, pepOption, reportError, type Command, type Io } from './command';
 
 const USAGE = `nullbench plan run (--session ID | --unit SERIAL (--receiver NAME | --source SPEC [--template T]
-                   --max-input-dbm M) --path ELEMENTS --pep-w W --carrier-hz F --tone-hz T)
+                   --max-input-dbm M) --path ELEMENTS (--pep-w W | --tx-pep-dbm P) --carrier-hz F --tone-hz T)
                    [--points LIST] [--average N] [--settle-ms MS] [--settle-timeout-ms MS]
                    [--reference tone|pep|unbalanced] [--json] [--db FILE]
 nullbench plan resume PLAN_ID [--json] [--db FILE]
@@ -33,8 +33,8 @@ Options:
   --receiver NAME       a stored receiver profile, or --source SPEC (and --template T for serial)
   --max-input-dbm M     the receiver's rated maximum input (with --source)
   --path ELEMENTS       e.g. coupler:30,pad:20
-  --pep-w W             the transmitter's peak envelope power, W
-  --carrier-hz F, --tone-hz T
+  --pep-w W             the transmitter's peak envelope power, W (or --tx-pep-dbm P, in dBm)
+  --carrier-hz F        the carrier's absolute frequency, Hz; --tone-hz T: the audio tone, Hz
   --average N           readings averaged per point (default 5)
   --settle-ms MS        least wait after retuning (default 1500: three 500 ms R.1 meter decay constants)
   --settle-timeout-ms   average anyway after this long without steady readings (default 10000)
@@ -133,6 +133,7 @@ export const planCommand: Command = {
           'bandwidth-hz': { type: 'string' },
           path: { type: 'string' },
           'pep-w': { type: 'string' },
+          'tx-pep-dbm': { type: 'string' },
           'carrier-hz': { type: 'string' },
           'tone-hz': { type: 'string' },
           operator: { type: 'string' },
@@ -247,15 +248,14 @@ async function newSession(svc: Service, v: Record<string, string | boolean | und
       ...(str('template') ? { template: str('template') } : {}),
     };
   }
-  const pepW = numberOption(str('pep-w'), 'pep-w');
-  if (!(pepW > 0)) throw new BenchError('EINVAL', `must be above 0 W, got ${pepW}`, '--pep-w');
+  const txPepDbm = pepOption({ 'pep-w': str('pep-w'), 'tx-pep-dbm': str('tx-pep-dbm') });
   const s = await svc.invoke('createSession', {
     unitId: unit.id,
     receiver,
     path: parsePathSpec(str('path') ?? ''),
     carrierHz: numberOption(str('carrier-hz'), 'carrier-hz'),
     toneHz: numberOption(str('tone-hz'), 'tone-hz'),
-    txPepDbm: 10 * Math.log10(pepW * 1000),
+    txPepDbm,
     operator: str('operator') ?? '',
     trims: [
       { key: 'A', label: 'Balance R', unit: 'turns', min: 0, max: 10 },
