@@ -19,3 +19,26 @@ export function runBin(argv: string[], env: Record<string, string> = {}) {
   });
   return { code: r.status ?? -1, out: r.stdout, err: r.stderr };
 }
+
+/**
+ * `log` on the fast simulated bench at `rateHz` with a safe set-up: 30 dBm PEP through a 50 dB pad is
+ * -20 dBm into a receiver rated 10 dBm.
+ */
+export function fastLog(db: string, rateHz: number, ...more: string[]): string[] {
+  return [
+    'log',
+    '--db',
+    db,
+    '--source',
+    'sim:fast',
+    '--rate-hz',
+    String(rateHz),
+    '--tx-pep-dbm',
+    '30',
+    '--max-input-dbm',
+    '10',
+    '--path',
+    'pad:50',
+    ...more,
+  ];
+}

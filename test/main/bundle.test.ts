@@ -48,6 +48,15 @@ function rejects(fn: () => unknown, field: string | RegExp, message?: RegExp): B
   return caught;
 }
 
+/** The demo database's bundle text, and the database (for cleanup). */
+async function demoBundle() {
+  const d = await demoDb();
+  const src = new Store(d.file);
+  const text = exportBundleText(src);
+  src.close();
+  return { d, text };
+}
+
 /** A demo database with a user limit set, sheet settings and an SSB session flag, so every list is filled. */
 async function fullDemo() {
   const d = await demoDb();
@@ -180,10 +189,7 @@ describe('records.bundle', () => {
   });
 
   it('refuses a corrupt bundle naming the line or the field, and writes nothing', async () => {
-    const d = await demoDb();
-    const src = new Store(d.file);
-    const text = exportBundleText(src);
-    src.close();
+    const { d, text } = await demoBundle();
     const t = tempDb();
     const target = new Store(t.file);
     target.createDesign({ name: 'Already here', notes: '' });
@@ -299,10 +305,7 @@ describe('records.bundle', () => {
   });
 
   it('checks every value at the door as live input is checked: bounded levels, real and ordered dates, safe set-ups', async () => {
-    const d = await demoDb();
-    const src = new Store(d.file);
-    const text = exportBundleText(src);
-    src.close();
+    const { d, text } = await demoBundle();
     const t = tempDb();
     const target = new Store(t.file);
     const before = counts(target);

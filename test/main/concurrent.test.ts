@@ -9,6 +9,7 @@ import Database from 'better-sqlite3';
 import { exportBundleText } from '../../main/store/bundles';
 import { serviceWithSession } from '../helpers/session';
 import { tempDir } from '../helpers/tmp';
+import { fastLog } from '../helpers/cli';
 
 const BUNDLE_READINGS = 40_000;
 
@@ -49,28 +50,9 @@ describe('two programs writing one database', () => {
       const db = join(tmp.dir, 'bench.db');
       const bundle = join(tmp.dir, 'big.json');
       await largeBundle(bundle);
-      const log = spawn(
-        process.execPath,
-        [
-          'bin/nullbench.js',
-          'log',
-          '--db',
-          db,
-          '--source',
-          'sim:fast',
-          '--rate-hz',
-          '1000',
-          '--for-s',
-          '6',
-          '--tx-pep-dbm',
-          '30',
-          '--max-input-dbm',
-          '10',
-          '--path',
-          'pad:50',
-        ],
-        { stdio: ['ignore', 'pipe', 'pipe'] },
-      );
+      const log = spawn(process.execPath, ['bin/nullbench.js', ...fastLog(db, 1000, '--for-s', '6')], {
+        stdio: ['ignore', 'pipe', 'pipe'],
+      });
       let out = '';
       let err = '';
       log.stdout.on('data', (b: Buffer) => (out += b.toString()));

@@ -13,8 +13,7 @@ import { createSource } from '../../main/sources';
 import { Store } from '../../main/store/store';
 import { TRIMS } from '../helpers/session';
 import { tempDir } from '../helpers/tmp';
-
-const SETUP = ['--tx-pep-dbm', '30', '--max-input-dbm', '10', '--path', 'pad:50'];
+import { fastLog } from '../helpers/cli';
 
 /** Fills the file system with a filler file, leaving about `leave` bytes free. */
 function fill(dir: string, leave: number): string {
@@ -58,23 +57,11 @@ describe('a full disk', () => {
     ]);
     assert.equal(made.status, 0, String(made.stderr));
     const filler = fill(disk, 600_000);
-    const r = spawnSync(
-      process.execPath,
-      [
-        'bin/nullbench.js',
-        'log',
-        '--db',
-        db,
-        '--source',
-        'sim:fast',
-        '--rate-hz',
-        '1000',
-        '--for-s',
-        '60',
-        ...SETUP,
-      ],
-      { encoding: 'utf8', timeout: 120_000, maxBuffer: 64 * 1024 * 1024 },
-    );
+    const r = spawnSync(process.execPath, ['bin/nullbench.js', ...fastLog(db, 1000, '--for-s', '60')], {
+      encoding: 'utf8',
+      timeout: 120_000,
+      maxBuffer: 64 * 1024 * 1024,
+    });
     assert.equal(r.status, 1, `log ended with ${r.status}: ${r.stderr}`);
     assert.doesNotMatch(r.stderr, /^\s+at /m, 'a stack trace was printed');
     const acks = r.stdout

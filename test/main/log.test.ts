@@ -97,20 +97,22 @@ describe('nullbench log', () => {
   it('refuses an unsafe set-up with EUNSAFE before writing anything', async () => {
     const tmp = tempDir();
     const db = join(tmp.dir, 'log.db');
+    // 50 dBm PEP straight into a receiver rated -10 dBm.
+    const unsafe = [
+      'log',
+      '--db',
+      db,
+      '--source',
+      'sim:fast',
+      '--tx-pep-dbm',
+      '50',
+      '--max-input-dbm',
+      '-10',
+      '--for-s',
+      '1',
+    ];
     try {
-      const r = await runCli([
-        'log',
-        '--db',
-        db,
-        '--source',
-        'sim:fast',
-        '--tx-pep-dbm',
-        '50',
-        '--max-input-dbm',
-        '-10',
-        '--for-s',
-        '1',
-      ]);
+      const r = await runCli(unsafe);
       assert.equal(r.code, 1);
       assert.match(r.err, /EUNSAFE.*--path: refused: .*rated maximum of -10 dBm/);
       // The caution once, in the one wording of app/caution.ts.
@@ -119,19 +121,7 @@ describe('nullbench log', () => {
       assert.deepEqual(readdirSync(tmp.dir), []);
       // Into an existing database, the refusal writes no row.
       assert.equal((await runCli(['add', '--db', db, '--design', 'Reed Warbler'])).code, 0);
-      const again = await runCli([
-        'log',
-        '--db',
-        db,
-        '--source',
-        'sim:fast',
-        '--tx-pep-dbm',
-        '50',
-        '--max-input-dbm',
-        '-10',
-        '--for-s',
-        '1',
-      ]);
+      const again = await runCli(unsafe);
       assert.equal(again.code, 1);
       const conn = new Database(db, { readonly: true });
       for (const [t, n] of Object.entries({ designs: 1, revisions: 0, units: 0, sessions: 0, readings: 0 }))

@@ -12,6 +12,7 @@ import { Store } from '../../main/store/store';
 import { connectionOf } from '../../main/store/connection';
 import { serviceWithSession } from '../helpers/session';
 import { tempDir } from '../helpers/tmp';
+import { fastLog } from '../helpers/cli';
 
 const bin = (args: string[]) =>
   spawnSync(process.execPath, ['bin/nullbench.js', ...args], { encoding: 'utf8', timeout: 120_000 });
@@ -42,24 +43,11 @@ function started(args: string[]): {
   return { child, out: () => out, err: () => err, done };
 }
 
-const LOG_SETUP = [
-  '--source',
-  'sim:fast',
-  '--rate-hz',
-  '50',
-  '--tx-pep-dbm',
-  '30',
-  '--max-input-dbm',
-  '10',
-  '--path',
-  'pad:50',
-];
-
 describe('one program at a time writes a session', () => {
   it('refuses a second program with the holder named, in the service and in log --session', async () => {
     const tmp = tempDir();
     const db = join(tmp.dir, 'bench.db');
-    const log = started(['log', '--db', db, ...LOG_SETUP]);
+    const log = started(fastLog(db, 50));
     try {
       await until(() => log.out().split('\n').length > 3, 'the first readings');
       const sessionId = (JSON.parse(log.out().split('\n')[0]) as { session_id: string }).session_id;
