@@ -64,8 +64,12 @@ export interface Figure {
   value: number;
   /** standard uncertainty (k = 1), dB */
   u: number;
-  /** 'value': a measured value; 'atLeast': a suppression at least this deep (the weaker line sat at the floor). */
-  bound: 'value' | 'atLeast';
+  /**
+   * 'value': a measured value; 'atLeast': a suppression at least this deep (the weaker line sat at the floor);
+   * 'unknown': the reference itself sat at the floor, so the ratio says nothing (value is what was read, never
+   * a figure to state or to judge).
+   */
+  bound: 'value' | 'atLeast' | 'unknown';
   notes: string[];
 }
 
@@ -185,16 +189,19 @@ function suppression(
   weak: PointLevel,
   atFloor: (p: PointLevel) => boolean,
   what: string,
+  refAtFloor: string | null = null,
 ): Figure {
   const notes: string[] = [];
   const floor = atFloor(weak);
-  if (floor)
+  if (refAtFloor)
+    notes.push(`${refAtFloor} read at the receiver floor: no suppression can be stated against it`);
+  else if (floor)
     notes.push(`${what} read at the receiver floor: the true level is lower, the suppression deeper`);
   if (weak.overload) notes.push(`${what} read near overload`);
   return {
     value: ref.dbm - weak.dbm,
     u: Math.sqrt(ref.uRel ** 2 + relativeU(weak) ** 2),
-    bound: floor ? 'atLeast' : 'value',
+    bound: refAtFloor ? 'unknown' : floor ? 'atLeast' : 'value',
     notes,
   };
 }
@@ -215,6 +222,13 @@ export function analyseSession(readings: readonly PointLevel[], emission: Emissi
     r.floorLimited || (floorDbm !== null && r.role !== 'floor' && r.dbm <= floorDbm + FLOOR_MARGIN_DB);
 
   const { wanted, unwanted } = sidebands(emission, p);
+  // A tone at the floor is no reference: every figure against the tone or PEP then says nothing.
+  const toneAtFloor = wanted.some(atFloor)
+    ? `the ${wanted
+        .filter(atFloor)
+        .map((w) => w.role)
+        .join(' and ')} tone`
+    : null;
   for (const w of wanted) {
     if (atFloor(w)) warnings.push(`the ${w.role} tone read at the receiver floor: is the transmitter keyed?`);
     if (w.overload)
@@ -265,12 +279,19 @@ export function analyseSession(readings: readonly PointLevel[], emission: Emissi
 
   const carrier: SessionFigures['carrier'] = { tone: null, pep: null, unbalanced: null };
   if (p.carrier) {
-    if (tone) carrier.tone = suppression(tone, p.carrier, atFloor, 'the carrier');
-    if (pep) carrier.pep = suppression(pep, p.carrier, atFloor, 'the carrier');
+    if (tone) carrier.tone = suppression(tone, p.carrier, atFloor, 'the carrier', toneAtFloor);
+    if (pep) carrier.pep = suppression(pep, p.carrier, atFloor, 'the carrier', toneAtFloor);
     if (p.reference) {
-      if (atFloor(p.reference))
+      const refFloor = atFloor(p.reference);
+      if (refFloor)
         warnings.push('the unbalanced-carrier reference read at the receiver floor: unbalance the modulator');
-      carrier.unbalanced = suppression(fromLine(p.reference), p.carrier, atFloor, 'the carrier');
+      carrier.unbalanced = suppression(
+        fromLine(p.reference),
+        p.carrier,
+        atFloor,
+        'the carrier',
+        refFloor ? 'the unbalanced-carrier reference' : null,
+      );
     }
   } else warnings.push('no carrier reading kept');
 
@@ -295,7 +316,7 @@ export function analyseSession(readings: readonly PointLevel[], emission: Emissi
 
   let opposite: Figure | null = null;
   if (emission !== 'dsb' && tone && unwanted)
-    opposite = suppression(tone, unwanted, atFloor, 'the opposite sideband');
+    opposite = suppression(tone, unwanted, atFloor, 'the opposite sideband', toneAtFloor);
   else if (emission !== 'dsb' && !unwanted) warnings.push('the opposite sideband was not kept');
 
   const imd3: SessionFigures['imd3'] = { tone: null, pep: null };
@@ -308,12 +329,14 @@ export function analyseSession(readings: readonly PointLevel[], emission: Emissi
       worst,
       atFloor,
       `the ${worst.role === 'imd3u' ? 'upper' : 'lower'} IMD3 line`,
+      toneAtFloor,
     );
     imd3.pep = suppression(
       pep,
       worst,
       atFloor,
       `the ${worst.role === 'imd3u' ? 'upper' : 'lower'} IMD3 line`,
+      toneAtFloor,
     );
     if (imdLines.length === 1) imd3.tone.notes.push('only one of the two IMD3 lines was kept');
   }
@@ -329,8 +352,12 @@ export function analyseSession(readings: readonly PointLevel[], emission: Emissi
       ref && {
         value: ref.dbm - h.dbm,
         u: Math.hypot(ref.uAbs, h.uDb),
-        bound: atMost ? 'atLeast' : 'value',
-        notes: atMost ? ['read at the receiver floor: at least this far below'] : [],
+        bound: toneAtFloor ? 'unknown' : atMost ? 'atLeast' : 'value',
+        notes: toneAtFloor
+          ? [`${toneAtFloor} read at the receiver floor: no level below it can be stated`]
+          : atMost
+            ? ['read at the receiver floor: at least this far below']
+            : [],
       };
     harmonics.push({
       role,

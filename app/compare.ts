@@ -135,7 +135,8 @@ export function compareRevisions(
       const values: CompareValue[] = [];
       for (const s of r.sessions) {
         const f = metricFigure(s.figures, m, reference);
-        if (!f) continue;
+        // A figure against a reference at the floor says nothing: it is no point of the spread.
+        if (!f || f.bound === 'unknown') continue;
         values.push({
           unitId: s.unitId,
           serial: s.serial,

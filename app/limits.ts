@@ -442,6 +442,17 @@ function suppressionOutcome(
       reason: missing,
     };
   const U = K_EXPANDED * f.u;
+  if (f.bound === 'unknown')
+    return {
+      rule: i,
+      label,
+      status: 'indeterminate',
+      measured: 'not stated (reference at the floor)',
+      limit: `≥ ${fmt(minDb)} dB`,
+      marginDb: null,
+      expandedDb: null,
+      reason: `${f.notes[0] ?? 'the reference read at the receiver floor'}: is the transmitter keyed, the path right?`,
+    };
   const margin = f.value - minDb;
   const v = verdictOf(margin, U, f.bound === 'atLeast');
   return {
@@ -511,7 +522,14 @@ function spuriousOutcomes(
     // A relative limit moves with the fundamental's level, so its uncertainty counts too.
     const U = K_EXPANDED * (lim.relative ? Math.hypot(ref.uAbs, h.uDb) : h.uDb);
     const margin = lim.dbm - h.dbm;
-    const v = verdictOf(margin, U, h.atMost);
+    // A limit relative to the fundamental means nothing when the tones it is measured from sat at the floor.
+    const refUnknown = lim.relative && h.belowMean?.bound === 'unknown';
+    const v = refUnknown
+      ? {
+          status: 'indeterminate' as const,
+          reason: `${h.belowMean!.notes[0]}: the limit relative to it is unknown; is the transmitter keyed?`,
+        }
+      : verdictOf(margin, U, h.atMost);
     return {
       rule: i,
       label: `${ORDINAL[h.order]} harmonic ≤ ${fmtDbm(lim.dbm)} (${lim.relative ? `${fmt(rule.minDb)} dB below ${REF_TEXT[rule.reference]} of ${fmtDbm(ref.dbm)}` : 'absolute limit'})`,

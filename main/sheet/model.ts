@@ -129,6 +129,14 @@ function figureRow(
   signed = false,
 ): FigureRow {
   if (!f) return { label, value: 'not measured', expanded: '', note: '', stated };
+  if (f.bound === 'unknown')
+    return {
+      label,
+      value: 'not stated: reference at the floor',
+      expanded: '',
+      note: f.notes.join('; '),
+      stated,
+    };
   const v = signed
     ? `${f.value >= 0 ? '+' : ''}${f1(f.value)} dB`
     : `${f.bound === 'atLeast' ? '≥ ' : ''}${f1(f.value)} dB${below}`;

@@ -23,6 +23,7 @@ export function f1(x: number): string {
 /** "58.0 ± 1.6 dB" (expanded, k = 2); "≥ 72.0 dB" with its uncertainty when the floor limited it. */
 export function figureText(f: Figure | null | undefined, signed = false): string {
   if (!f) return '—';
+  if (f.bound === 'unknown') return 'not stated (reference at the floor)';
   const v = signed && f.value >= 0 ? `+${f1(f.value)}` : f1(f.value);
   return `${f.bound === 'atLeast' ? '≥ ' : ''}${v} ± ${f1(K_EXPANDED * f.u)} dB`;
 }

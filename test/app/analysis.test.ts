@@ -124,6 +124,43 @@ describe('analysis.analyseSession()', () => {
     assert.equal(clear.carrier.pep!.bound, 'value');
   });
 
+  it('states no suppression against tones (or a reference) that sat at the receiver floor', () => {
+    // Tones at the floor are no reference: the carrier "80 dB below" them says nothing about the modulator.
+    const f = analyseSession([
+      pt('upper', -60, { floorLimited: true }),
+      pt('lower', -60, { floorLimited: true }),
+      pt('carrier', -140, { floorLimited: true }),
+      pt('imd3u', -100),
+      pt('h2', -120),
+    ]);
+    for (const [name, fig] of [
+      ['carrier/tone', f.carrier.tone],
+      ['carrier/PEP', f.carrier.pep],
+      ['IMD3/tone', f.imd3.tone],
+      ['h2 below mean', f.harmonics[0].belowMean],
+    ] as const) {
+      assert.equal(fig!.bound, 'unknown', name);
+      assert.match(fig!.notes.join(), /upper and lower tone read at the receiver floor/, name);
+    }
+    assert.ok(f.warnings.some((w) => /tone read at the receiver floor: is the transmitter keyed/.test(w)));
+    // One tone at the floor is enough to spoil the mean tone and PEP.
+    const one = analyseSession([
+      pt('upper', 24),
+      pt('lower', -70, { floorLimited: true }),
+      pt('carrier', -40),
+    ]);
+    assert.equal(one.carrier.tone!.bound, 'unknown');
+    // The unbalanced reference at the floor spoils only the figure against it.
+    const ref = analyseSession([
+      pt('upper', 24),
+      pt('lower', 24),
+      pt('carrier', -40),
+      pt('reference', -75, { floorLimited: true }),
+    ]);
+    assert.equal(ref.carrier.unbalanced!.bound, 'unknown');
+    assert.equal(ref.carrier.tone!.bound, 'value');
+  });
+
   it('states the opposite sideband for SSB, with PEP equal to the one tone', () => {
     const f = analyseSession([pt('upper', 30), pt('lower', -15), pt('carrier', -25)], 'usb');
     near(f.opposite!.value, 45, 1e-9, 'opposite sideband');

@@ -205,6 +205,24 @@ describe('limits.evaluateSet()', () => {
     assert.match(close.outcomes[0].reason, /within the ±/);
   });
 
+  it('never passes a suppression whose reference tones sat at the receiver floor', () => {
+    const atFloor = analyseSession([
+      pt('upper', -60, { floorLimited: true }),
+      pt('lower', -60, { floorLimited: true }),
+      pt('carrier', -140, { floorLimited: true }),
+      pt('h2', -120, { freqHz: 14.2e6 }),
+    ]);
+    const carrier = evaluateSet(preset('preset:common-practice'), atFloor, ctx);
+    assert.equal(carrier.outcomes[0].status, 'indeterminate', JSON.stringify(carrier.outcomes[0]));
+    assert.equal(carrier.outcomes[0].measured, 'not stated (reference at the floor)');
+    assert.match(carrier.outcomes[0].reason, /tone read at the receiver floor.*is the transmitter keyed/);
+    assert.notEqual(carrier.overall, 'pass');
+    // A harmonic limit relative to the fundamental cannot be placed either.
+    const spur = evaluateSet(preset('preset:us-97.307d'), atFloor, ctx);
+    assert.equal(spur.outcomes[0].status, 'indeterminate', JSON.stringify(spur.outcomes[0]));
+    assert.notEqual(spur.overall, 'pass');
+  });
+
   it('checks each kept harmonic against 47 CFR 97.307(d) and leaves 97.307(e) not applicable at 7 MHz', () => {
     const f = session(-40, [pt('h2', -18, { freqHz: 14.2e6 }), pt('h3', -30, { freqHz: 21.3e6 })]);
     const d = evaluateSet(preset('preset:us-97.307d'), f, ctx);
