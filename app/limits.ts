@@ -656,6 +656,13 @@ export function evaluateSet(set: LimitSet, f: SessionFigures, ctx: VerdictContex
     overall = 'pass';
     reason = `all ${applicable.length} applicable checks pass`;
   }
+  // A spurious-emission rule speaks of any spurious emission, but only the kept harmonics were read:
+  // the verdict says so wherever it is shown, so a pass is never read as a full spurious survey.
+  const spurious = applicable.some((o) => set.rules[o.rule]?.metric === 'spurious');
+  if (spurious && f.harmonics.length)
+    reason +=
+      `; spurious emissions: only the ${f.harmonics.map((h) => ORDINAL[h.order]).join(', ')} harmonic ` +
+      `${f.harmonics.length === 1 ? 'was' : 'were'} measured, other spurious emissions were not`;
   return { setId: set.id, setName: set.name, standing: set.standing, overall, reason, outcomes };
 }
 

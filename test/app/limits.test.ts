@@ -230,6 +230,8 @@ describe('limits.evaluateSet()', () => {
     // Mean power 27.01 dBm -> spur at most -15.99 dBm; the 2nd harmonic at -18 dBm is 2.0 dB inside.
     near(d.outcomes[0].marginDb!, f.mean!.dbm - 43 + 18, 1e-9);
     assert.match(d.outcomes[0].label, /2nd harmonic ≤ −16\.0 dBm/);
+    // The verdict states how little of "any spurious emission" was measured.
+    assert.match(d.reason, /only the 2nd, 3rd harmonic were measured, other spurious emissions were not/);
     const e = evaluateSet(preset('preset:us-97.307e'), f, ctx);
     assert.equal(e.overall, 'not-applicable');
     assert.match(e.outcomes[0].reason, /below 30 MHz/);
