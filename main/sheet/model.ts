@@ -45,6 +45,12 @@ export interface FigureRow {
   note: string;
   /** the stated reference of the sheet */
   stated: boolean;
+  /** The figure as numbers, for machines: dB (positive below the reference), null when not measured or not stated. */
+  db: number | null;
+  /** expanded uncertainty (k = 2), dB */
+  expandedDb: number | null;
+  /** 'value', 'atLeast' (a bound: the weak line sat at the floor) or 'unknown' (the reference sat at the floor) */
+  bound: Figure['bound'] | null;
 }
 
 export interface PointRow {
@@ -128,7 +134,17 @@ function figureRow(
   stated = false,
   signed = false,
 ): FigureRow {
-  if (!f) return { label, value: 'not measured', expanded: '', note: '', stated };
+  if (!f)
+    return {
+      label,
+      value: 'not measured',
+      expanded: '',
+      note: '',
+      stated,
+      db: null,
+      expandedDb: null,
+      bound: null,
+    };
   if (f.bound === 'unknown')
     return {
       label,
@@ -136,11 +152,23 @@ function figureRow(
       expanded: '',
       note: f.notes.join('; '),
       stated,
+      db: null,
+      expandedDb: null,
+      bound: 'unknown',
     };
   const v = signed
     ? `${f.value >= 0 ? '+' : ''}${f1(f.value)} dB`
     : `${f.bound === 'atLeast' ? '≥ ' : ''}${f1(f.value)} dB${below}`;
-  return { label, value: v, expanded: `± ${f1(K_EXPANDED * f.u)} dB`, note: f.notes.join('; '), stated };
+  return {
+    label,
+    value: v,
+    expanded: `± ${f1(K_EXPANDED * f.u)} dB`,
+    note: f.notes.join('; '),
+    stated,
+    db: f.value,
+    expandedDb: K_EXPANDED * f.u,
+    bound: f.bound,
+  };
 }
 
 const ORDER: PointRole[] = [

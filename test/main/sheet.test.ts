@@ -129,8 +129,28 @@ describe('nullbench sheet', () => {
       '--json',
     ]);
     assert.equal(r.code, 0, r.err);
-    const summary = JSON.parse(r.out);
+    const summary = JSON.parse(r.out) as {
+      overall: string;
+      figures: {
+        figure: string;
+        db: number | null;
+        expandedDb: number | null;
+        k: number;
+        bound: string;
+        text: string;
+      }[];
+    };
     assert.ok(['fail', 'indeterminate'].includes(summary.overall), summary.overall);
+    // Figures as numbers for scripts, the text beside them: dB, expanded uncertainty with its k, the kind.
+    const pep = summary.figures.find((f) => f.figure === 'Carrier suppression, against PEP')!;
+    assert.equal(typeof pep.db, 'number');
+    assert.equal(typeof pep.expandedDb, 'number');
+    assert.equal(pep.k, 2);
+    assert.equal(pep.bound, 'value');
+    assert.match(
+      pep.text,
+      new RegExp(`^${pep.db!.toFixed(1)} dB below PEP ± ${pep.expandedDb!.toFixed(1)} dB$`),
+    );
     const text = pdftotext(out);
     assert.match(text, summary.overall === 'fail' ? /FAIL/ : /INDETERMINATE/);
     assert.match(text, /Carefully laid-out board \(common practice\)/);

@@ -77,7 +77,15 @@ Chromium is found at /usr/bin/chromium or CHROMIUM_PATH.`,
           measured: model.session.startedAt,
           reference: model.reference,
           overall: model.overall,
-          figures: model.figures.map((f) => ({ figure: f.label, value: f.value, uncertainty: f.expanded })),
+          // Numbers for scripts (dB, expanded uncertainty k = 2, the kind of figure), the text beside them.
+          figures: model.figures.map((f) => ({
+            figure: f.label,
+            db: f.db,
+            expandedDb: f.expandedDb,
+            k: 2,
+            bound: f.bound,
+            text: `${f.value}${f.expanded ? ` ${f.expanded}` : ''}`,
+          })),
           verdicts: model.verdicts.map((v) => ({ set: v.setName, overall: v.overall })),
         };
         if (values.json) io.out(JSON.stringify(summary, null, 2) + '\n');
