@@ -67,7 +67,18 @@ api.listen('progress', (p) =>
 );
 api.listen('notice', (n) => notify(n.level, n.message));
 
+/**
+ * One dialog at a time: a second click on the same button leaves its dialog as it is; another dialog's
+ * button closes the open one first. True when the asked-for dialog is already open.
+ */
+function alreadyOpen(id: string): boolean {
+  if (document.getElementById(id)) return true;
+  document.querySelectorAll('.overlay').forEach((o) => o.remove());
+  return false;
+}
+
 $('#btn-sessions').addEventListener('click', () => {
+  if (alreadyOpen('sessions-dialog')) return;
   void showSessionsDialog({ api, onOpened: (s) => void opened(s) }, true).catch((e: Error) =>
     notify('error', e.message),
   );
@@ -97,6 +108,7 @@ $('#btn-repeat-session').addEventListener('click', () => {
 });
 
 $('#btn-receivers').addEventListener('click', () => {
+  if (alreadyOpen('receivers-dialog')) return;
   void showReceiversDialog(api, notify).catch((e: Error) => notify('error', e.message));
 });
 

@@ -68,7 +68,11 @@ export function mountNav(deps: NavDeps): void {
     }
   };
   window.addEventListener('hashchange', () => void show());
+  // One lit item: the route's (after a reload on a records view too), or the bench with no route.
   if (location.hash) void show();
-  else current = 'bench';
-  buttons[0].classList.add('on');
+  else {
+    current = 'bench';
+    buttons[0].classList.add('on');
+    buttons[0].setAttribute('aria-current', 'page');
+  }
 }

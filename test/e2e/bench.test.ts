@@ -160,6 +160,21 @@ describe('web mode, end to end', () => {
     assert.equal(sessions.n, 2, 'a second session with the same set-up');
   });
 
+  it('keeps to one dialog at a time, and lights one navigation item after a reload', async () => {
+    await page.click('#btn-sessions');
+    await page.locator('#sessions-dialog').waitFor();
+    await page.click('#btn-sessions', { force: true });
+    assert.equal(await page.locator('.overlay').count(), 1, 'a second sessions dialog');
+    await page.click('#btn-receivers', { force: true });
+    await page.locator('#receivers-dialog').waitFor();
+    assert.equal(await page.locator('.overlay').count(), 1, 'dialogs stacked');
+    await page.click('#receivers-close');
+    await page.goto(`${served.url}#/designs`);
+    await page.reload();
+    await page.locator('#records').waitFor();
+    assert.deepEqual(await page.locator('#nav .nav-item.on').allInnerTexts(), ['Designs & units']);
+  });
+
   it('raised no script errors in the page', () => {
     assert.deepEqual(pageErrors, []);
   });
