@@ -227,7 +227,8 @@ describe('fuzz: bundle import', () => {
             importBundle(target, input);
             merged++;
           } catch (e) {
-            assertClearError(e, ['EINVAL'], `import of ${JSON.stringify(edits).slice(0, 300)}`);
+            // EUNSAFE: an edit that leaves a session declaring more power into its receiver than it is rated for.
+            assertClearError(e, ['EINVAL', 'EUNSAFE'], `import of ${JSON.stringify(edits).slice(0, 300)}`);
             assert.equal(snapshotDb(connectionOf(target)), before, 'a refused import wrote something');
             refused++;
             return;
@@ -260,7 +261,7 @@ describe('fuzz: bundle import', () => {
           });
         } catch (e) {
           if (e instanceof Undo) return;
-          assertClearError(e, ['EINVAL'], `merge of ${JSON.stringify(edits).slice(0, 300)}`);
+          assertClearError(e, ['EINVAL', 'EUNSAFE'], `merge of ${JSON.stringify(edits).slice(0, 300)}`);
         }
         assert.equal(snapshotDb(connectionOf(source)), before, 'a refused merge changed the database');
       }),
