@@ -111,3 +111,25 @@ export function errorText(e: unknown): string {
   }
   return e instanceof Error ? e.message : String(e);
 }
+
+const STORAGE_REASONS: Record<string, string> = {
+  EACCES: 'permission denied',
+  EPERM: 'operation not permitted',
+  EROFS: 'the file system is read-only',
+  ENOSPC: 'the disk is full',
+  ENOENT: 'no such file or folder',
+  EISDIR: 'it is a folder',
+  SQLITE_CANTOPEN: 'SQLite cannot open it',
+  SQLITE_READONLY: 'the database can only be read here',
+  SQLITE_FULL: 'the disk is full',
+  SQLITE_IOERR: 'an input/output error',
+  SQLITE_BUSY: 'another program holds it locked',
+};
+
+/**
+ * What a storage error's code means, in words: the system's errno names and SQLite's result codes, an extended
+ * code (SQLITE_IOERR_WRITE) by its primary one. Null for a code not listed.
+ */
+export function storageReason(code: string): string | null {
+  return STORAGE_REASONS[code] ?? STORAGE_REASONS[code.split('_').slice(0, 2).join('_')] ?? null;
+}

@@ -1,6 +1,7 @@
 // Runs anywhere (app/ is runtime-free). The signal path from the transmitter under test to the receiver:
 // pads, cables, a sampler, corrections and mismatch, each with an uncertainty; levels referred either way.
 import { z } from 'zod';
+import { RF_CAUTION } from './caution';
 import { BenchError, check } from './errors';
 import { benchErrorFromZod } from './zodissue';
 
@@ -573,4 +574,23 @@ export function parsePathSpec(spec: string, option = '--path'): PathElement[] {
 /** Short text for a whole path, e.g. "20 dB pad + 0.4 dB cable"; an empty path is "direct (no elements)". */
 export function formatPath(elements: readonly PathElement[]): string {
   return elements.length === 0 ? 'direct (no elements)' : elements.map(formatElement).join(' + ');
+}
+
+/**
+ * assertReceiverSafe for a session's declared set-up, as every door refuses it: "refused: …" with the one RF
+ * caution (app/caution.ts), at `field`.
+ */
+export function refuseUnsafeSetup(
+  dbmDut: number,
+  elements: readonly PathElement[],
+  rxMaxDbm: number,
+  field: string,
+): { rxDbm: number; worstRxDbm: number } {
+  try {
+    return assertReceiverSafe(dbmDut, elements, rxMaxDbm);
+  } catch (e) {
+    if (e instanceof BenchError && e.code === 'EUNSAFE')
+      throw new BenchError('EUNSAFE', `refused: ${e.message} ${RF_CAUTION}`, field);
+    throw e;
+  }
 }

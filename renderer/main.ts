@@ -45,7 +45,8 @@ function showLink(s: Status): void {
   $('#btn-end-session').hidden = !s.activeSessionId || s.sessionEnded;
   const banner = $('#ended-banner');
   banner.hidden = !s.activeSessionId || !s.sessionEnded;
-  if (s.sessionEnded && s.activeSessionId) {
+  // The banner's text is fetched once per ended session, not on every status event.
+  if (s.sessionEnded && s.activeSessionId && banner.dataset.session !== s.activeSessionId) {
     banner.dataset.session = s.activeSessionId;
     void api.call('getSession', { sessionId: s.activeSessionId }).then(
       (x) =>

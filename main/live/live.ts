@@ -9,7 +9,7 @@ import {
   type Session,
   type TrimPositions,
 } from '../../app/api';
-import { BenchError, errorClass } from '../../app/errors';
+import { BenchError, errorClass, storageReason } from '../../app/errors';
 import { SettleDetector } from '../../app/nullfit/settle';
 import { dutToRx } from '../../app/path';
 import type { ReadingSink } from './sink';
@@ -30,15 +30,7 @@ export interface LiveEvents {
  */
 export function storeFault(e: unknown): BenchError {
   if (e instanceof BenchError) return e;
-  const code = String((e as { code?: string }).code ?? '');
-  const why =
-    code === 'SQLITE_FULL'
-      ? 'the disk is full'
-      : code.startsWith('SQLITE_IOERR')
-        ? 'an input/output error'
-        : code.startsWith('SQLITE_READONLY')
-          ? 'the database can no longer be written'
-          : 'the database refused the write';
+  const why = storageReason(String((e as { code?: string }).code ?? '')) ?? 'the database refused the write';
   return new BenchError(
     'EIO',
     `cannot store the reading: ${why} (${e instanceof Error ? e.message : String(e)}); reading stopped, ` +

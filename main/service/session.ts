@@ -6,7 +6,7 @@ import type { SessionCallResults } from '../../app/api/session';
 import { RF_CAUTION } from '../../app/caution';
 import { validateCalibration } from '../../app/calibration';
 import { BenchError } from '../../app/errors';
-import { analysePath, assertReceiverSafe, validatePath } from '../../app/path';
+import { analysePath, refuseUnsafeSetup, validatePath } from '../../app/path';
 import { LiveBench } from '../live/live';
 import { findDriver } from '../sources';
 import { describeHolder, HEARTBEAT_MS, LeaseRepo } from '../store/leases';
@@ -138,15 +138,8 @@ export class SessionCalls {
     });
     if (new Set(a.trims.map((t) => t.key)).size !== a.trims.length)
       throw new BenchError('EINVAL', 'each trimmer needs its own key', 'trims');
-    let rxPepDbm: number;
-    try {
-      // Worst case over the path's tolerances: the least loss the pads and couplers may really have.
-      rxPepDbm = assertReceiverSafe(a.txPepDbm, path, a.receiver.maxInputDbm).rxDbm;
-    } catch (e) {
-      if (e instanceof BenchError && e.code === 'EUNSAFE')
-        throw new BenchError('EUNSAFE', `refused: ${e.message} ${RF_CAUTION}`, 'path');
-      throw e;
-    }
+    // Worst case over the path's tolerances: the least loss the pads and couplers may really have.
+    const rxPepDbm = refuseUnsafeSetup(a.txPepDbm, path, a.receiver.maxInputDbm, 'path').rxDbm;
     return { receiver, path, rxPepDbm };
   }
 
@@ -172,13 +165,7 @@ export class SessionCalls {
       return session;
     }
     // Every session is checked again before its receiver is read live, however it came into the database.
-    try {
-      assertReceiverSafe(session.txPepDbm, validatePath(session.path), session.receiver.maxInputDbm);
-    } catch (e) {
-      if (e instanceof BenchError && e.code === 'EUNSAFE')
-        throw new BenchError('EUNSAFE', `refused: ${e.message} ${RF_CAUTION}`, 'path');
-      throw e;
-    }
+    refuseUnsafeSetup(session.txPepDbm, validatePath(session.path), session.receiver.maxInputDbm, 'path');
     if (!store.readonly) this.takeLease(session.id);
     const tpl = session.receiver.template;
     const source = this.ctx.makeSource(session.receiver.source, tpl ? { template: tpl } : {});

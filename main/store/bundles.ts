@@ -17,8 +17,7 @@ import { validateCalibration } from '../../app/calibration';
 import { isDbfsCalibration, validateDbfsCalibration } from '../../app/spectrum/dbfs';
 import { BenchError } from '../../app/errors';
 import { PRESETS, validateLimitSet } from '../../app/limits';
-import { assertReceiverSafe, validatePath } from '../../app/path';
-import { RF_CAUTION } from '../../app/caution';
+import { refuseUnsafeSetup, validatePath } from '../../app/path';
 import { benchErrorFromZod } from '../../app/zodissue';
 import { rowToReading, type ReadingRow, type Store } from './store';
 import { connectionOf } from './connection';
@@ -309,13 +308,7 @@ export function validateBundle(input: unknown, store?: Store): Bundle {
       );
     // The same receiver safety check as a live set-up: a bundle cannot bring in a session that declares more
     // power into its receiver than the receiver is rated for (it could be continued or reported from here).
-    try {
-      assertReceiverSafe(x.txPepDbm, path, x.receiver.maxInputDbm);
-    } catch (e) {
-      if (e instanceof BenchError && e.code === 'EUNSAFE')
-        throw new BenchError('EUNSAFE', `refused: ${e.message} ${RF_CAUTION}`, `sessions[${i}].path`);
-      throw e;
-    }
+    refuseUnsafeSetup(x.txPepDbm, path, x.receiver.maxInputDbm, `sessions[${i}].path`);
     if (x.receiver.calibration != null)
       rethrowAt(() => validateCalibration(x.receiver.calibration), `sessions[${i}].receiver.calibration`);
   });

@@ -18,7 +18,7 @@ import {
   statSync,
 } from 'node:fs';
 import { dirname, join, resolve } from 'node:path';
-import { BenchError } from '../../app/errors';
+import { BenchError, storageReason } from '../../app/errors';
 import { migrationsDir } from '../paths';
 
 export type Db = Database.Database;
@@ -100,23 +100,10 @@ function damaged(where: string, detail: string): BenchError {
 export function ioError(file: string, e: unknown, doing = 'open'): BenchError {
   if (e instanceof BenchError) return e;
   const err = e as NodeJS.ErrnoException & { code?: string };
-  const reasons: Record<string, string> = {
-    EACCES: 'permission denied',
-    EPERM: 'operation not permitted',
-    EROFS: 'the file system is read-only',
-    ENOSPC: 'the disk is full',
-    ENOENT: 'no such file or folder',
-    EISDIR: 'it is a folder',
-    SQLITE_CANTOPEN: 'SQLite cannot open it',
-    SQLITE_READONLY: 'it can only be read here',
-    SQLITE_FULL: 'the disk is full',
-    SQLITE_IOERR: 'an input/output error',
-    SQLITE_BUSY: 'another program holds it locked',
-  };
   const code = String(err.code ?? '');
   if (code.startsWith('SQLITE_CORRUPT') || code === 'SQLITE_NOTADB')
     return damaged(resolve(file), err.message);
-  const reason = reasons[code] ?? reasons[code.replace(/_[A-Z_]+$/, '')] ?? '';
+  const reason = storageReason(code) ?? '';
   let where = '';
   if (code.startsWith('SQLITE_CANTOPEN') || code === 'ENOENT' || code === 'EACCES') {
     const folder = dirname(resolve(file));
@@ -195,9 +182,9 @@ export function openDb(file: string, opts: OpenOptions = {}): Db {
       db.pragma('synchronous = FULL');
     }
     db.pragma('foreign_keys = ON');
+    const applied = appliedVersions(db);
+    const pending = migrations.filter((m) => !applied.has(m.version));
     if (readonly) {
-      const applied = appliedVersions(db);
-      const pending = migrations.filter((m) => !applied.has(m.version));
       if (pending.length)
         throw new BenchError(
           'ECONFLICT',
@@ -207,8 +194,6 @@ export function openDb(file: string, opts: OpenOptions = {}): Db {
           'database',
         );
     } else {
-      const applied = appliedVersions(db);
-      const pending = migrations.filter((m) => !applied.has(m.version));
       // An existing database about to change gets a copy first (one from a newer build was refused above).
       if (!memory && applied.size > 0 && pending.length > 0) {
         const latest = migrations[migrations.length - 1].version;

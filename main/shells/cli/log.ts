@@ -9,8 +9,6 @@ import { defaultDbPath } from '../../paths';
 import { Service } from '../../service';
 import { createSource, SOURCES } from '../../sources';
 import { Store } from '../../store/store';
-import { discardIfEmpty } from '../../store/db';
-import { existsSync } from 'node:fs';
 import {
   joinNegativeNumbers,
   numberOption,
@@ -138,10 +136,7 @@ Refused when the receiver input at the declared PEP through the path would excee
           );
       }
 
-      const file = values.db ?? defaultDbPath();
-      // A database this command makes is removed again if the command is refused before storing anything.
-      const isNew = !existsSync(file);
-      const store = new Store(file, {
+      const store = new Store(values.db ?? defaultDbPath(), {
         onBackup: (p) => io.err(`The database was upgraded; its earlier version is kept at ${p}\n`),
       });
       const service = new Service({
@@ -149,9 +144,8 @@ Refused when the receiver input at the declared PEP through the path would excee
         mode: 'cli',
         createSource: (spec, env) => pacedSource(createSource(spec, env), rateHz),
       });
-      let session: Session | null = null;
       try {
-        session =
+        const session =
           values.session !== undefined
             ? continuable(store, values.session)
             : await newSession(service, store, values);
@@ -159,7 +153,6 @@ Refused when the receiver input at the declared PEP through the path would excee
       } finally {
         await service.close();
         store.close();
-        if (session === null && isNew) discardIfEmpty(file);
       }
     } catch (e) {
       return reportError(e, io);
