@@ -20,6 +20,7 @@ import { PRESETS, validateLimitSet } from '../../app/limits';
 import { refuseUnsafeSetup, validatePath } from '../../app/path';
 import { benchErrorFromZod } from '../../app/zodissue';
 import { rowToReading, type ReadingRow, type Store } from './store';
+import { uidToDb } from './uid';
 import { connectionOf } from './connection';
 import type { LimitRow } from './records';
 
@@ -76,7 +77,7 @@ export function exportBundle(store: Store, designId?: string): Bundle {
   const sIds = new Set(sessionRows.map((s) => s.id as string));
   const readingRows = (
     db
-      .prepare('SELECT x.*, c.digest FROM readings x JOIN corrections c ON c.id = x.correction_id')
+      .prepare('SELECT x.*, c.digest FROM readings_wide x JOIN corrections c ON c.id = x.correction_id')
       .all() as Record<string, unknown>[]
   ).filter((r) => sIds.has(r.session_id as string));
   const sessionOrder = new Map(sessionRows.map((s, i) => [s.id as string, i]));
@@ -534,20 +535,42 @@ export function importBundle(store: Store, text: string): ImportSummary {
         (db.prepare('SELECT id FROM corrections WHERE digest = ?').get(c.digest) as { id: number }).id,
       );
     }
-    const hasReading = db.prepare('SELECT 1 FROM readings WHERE uid = ?');
+    // A reading already here is found by its session and time (the readings index), then its stable uid.
+    const hasReading = db.prepare('SELECT 1 FROM readings WHERE session_no = ? AND t_ms = ? AND uid = ?');
     const insertReading = db.prepare(
-      `INSERT INTO readings (uid, session_id, t_ms, freq_hz, role, raw, dbm_rx, dbm_dut, u_db, settled, kept,
-         floor_limited, overload, trims_json, correction_id, note)
+      `INSERT INTO readings (uid, session_no, t_ms, freq_hz, role, raw, dbm_rx, dbm_dut, u_db, settled, kept,
+         floor_limited, overload, trims_id, correction_id, note)
        VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
     );
+    const sessionNo = new Map<string, number>();
+    const noOf = (id: string) => {
+      let no = sessionNo.get(id);
+      if (no === undefined) {
+        no = (db.prepare('SELECT no FROM sessions WHERE id = ?').get(id) as { no: number }).no;
+        sessionNo.set(id, no);
+      }
+      return no;
+    };
+    const trimIds = new Map<string, number>();
+    const trimsOf = (json: string) => {
+      let id = trimIds.get(json);
+      if (id === undefined) {
+        db.prepare('INSERT OR IGNORE INTO trim_sets (json) VALUES (?)').run(json);
+        id = (db.prepare('SELECT id FROM trim_sets WHERE json = ?').get(json) as { id: number }).id;
+        trimIds.set(json, id);
+      }
+      return id;
+    };
     for (const [i, r] of b.readings.entries()) {
-      if (hasReading.get(r.uid)) {
+      const uid = uidToDb(r.uid);
+      const no = noOf(r.sessionId);
+      if (hasReading.get(no, r.t, uid)) {
         sum.unchanged.readings++;
         continue;
       }
       insertReading.run(
-        r.uid,
-        r.sessionId,
+        uid,
+        no,
         r.t,
         r.freqHz,
         r.role,
@@ -559,7 +582,7 @@ export function importBundle(store: Store, text: string): ImportSummary {
         r.kept ? 1 : 0,
         r.floorLimited ? 1 : 0,
         r.overload ? 1 : 0,
-        rawJson('readings', i, 'trims'),
+        trimsOf(rawJson('readings', i, 'trims')),
         correctionIds.get(r.correction)!,
         r.note,
       );

@@ -50,7 +50,7 @@ export function readingsCsv(
       `SELECT d.name AS design, r.name AS revision, u.serial, s.id AS session_id, s.started_at, s.operator,
               e.emission, x.uid, x.t_ms, x.role, x.freq_hz, x.raw, x.dbm_rx, x.dbm_dut, x.u_db, x.settled, x.kept,
               x.floor_limited, x.overload, x.trims_json, s.trims_json AS session_trims_json, x.note
-       FROM readings x JOIN sessions s ON s.id = x.session_id JOIN units u ON u.id = s.unit_id
+       FROM readings_wide x JOIN sessions s ON s.id = x.session_id JOIN units u ON u.id = s.unit_id
             JOIN revisions r ON r.id = u.revision_id JOIN designs d ON d.id = r.design_id
             LEFT JOIN session_emission e ON e.session_id = s.id
        WHERE (? IS NULL OR d.id = ?) AND (? IS NULL OR u.id = ?) AND (? IS NULL OR s.id = ?)

@@ -371,18 +371,32 @@ export function migrate(db: Db, migrations: Migration[]): number {
       'database',
     );
   }
-  for (const m of migrations) {
-    if (applied.has(m.version)) continue;
-    db.transaction(() => {
-      // Another program opening the same new file may have applied it while this one waited for the lock.
-      if (db.prepare('SELECT 1 FROM schema_migrations WHERE version = ?').get(m.version)) return;
-      db.exec(m.sql);
-      db.prepare('INSERT INTO schema_migrations (version, name, applied_at) VALUES (?, ?, ?)').run(
-        m.version,
-        m.name,
-        new Date().toISOString(),
-      );
-    }).immediate();
+  // A migration may rebuild a table that others refer to: SQLite's documented way is with foreign keys off
+  // (the pragma cannot change inside a transaction), checking every reference before the commit.
+  const fk = db.pragma('foreign_keys', { simple: true }) as number;
+  db.pragma('foreign_keys = OFF');
+  try {
+    for (const m of migrations) {
+      if (applied.has(m.version)) continue;
+      db.transaction(() => {
+        // Another program opening the same new file may have applied it while this one waited for the lock.
+        if (db.prepare('SELECT 1 FROM schema_migrations WHERE version = ?').get(m.version)) return;
+        db.exec(m.sql);
+        const broken = db.pragma('foreign_key_check') as { table: string; rowid: number; parent: string }[];
+        if (broken.length)
+          throw new Error(
+            `migration ${m.version} (${m.name}) left ${broken.length} broken references, the first in ` +
+              `${broken[0].table} row ${broken[0].rowid} to ${broken[0].parent}; nothing was changed`,
+          );
+        db.prepare('INSERT INTO schema_migrations (version, name, applied_at) VALUES (?, ?, ?)').run(
+          m.version,
+          m.name,
+          new Date().toISOString(),
+        );
+      }).immediate();
+    }
+  } finally {
+    db.pragma(`foreign_keys = ${fk ? 'ON' : 'OFF'}`);
   }
   return latest;
 }

@@ -336,7 +336,7 @@ export class Records {
       .prepare(
         `SELECT x.id, x.t_ms, x.freq_hz, x.role, x.dbm_dut, x.u_db, x.floor_limited, x.overload, x.settled,
                 x.trims_json, x.note, x.correction_id, c.calibration_json, c.path_json
-         FROM readings x JOIN corrections c ON c.id = x.correction_id
+         FROM readings_wide x JOIN corrections c ON c.id = x.correction_id
          WHERE x.session_id = ? AND x.kept = 1 ORDER BY x.t_ms, x.id`,
       )
       .all(sessionId) as KeptRow[];
@@ -348,7 +348,7 @@ export class Records {
       this.db
         .prepare(
           `SELECT s.id, s.started_at AS startedAt,
-                  (SELECT COUNT(*) FROM readings x WHERE x.session_id = s.id AND x.kept = 1) AS kept
+                  (SELECT COUNT(*) FROM readings x WHERE x.session_no = s.no AND x.kept = 1) AS kept
            FROM sessions s WHERE s.unit_id = ? ORDER BY s.started_at DESC, s.id`,
         )
         .all(unitId) as { id: string; startedAt: string; kept: number }[]

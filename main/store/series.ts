@@ -95,25 +95,58 @@ class Grid {
 const grids = new WeakMap<Store, Map<string, Grid>>();
 
 function where(role: PointRole | null): string {
-  return `session_id = @s${role ? ' AND role = @role' : ''}`;
+  return `session_no = @s${role ? ' AND role = @role' : ''}`;
 }
 
-/** Builds a session's grid in one SQL pass over its readings. */
-function buildGrid(store: Store, sessionId: string, role: PointRole | null): Grid | null {
-  const span = connectionOf(store)
-    .prepare(`SELECT MIN(t_ms) AS lo, MAX(t_ms) AS hi, MAX(id) AS last FROM readings WHERE ${where(role)}`)
-    .get({ s: sessionId, role }) as { lo: number | null; hi: number | null; last: number | null };
-  if (span.lo === null || span.hi === null || span.last === null) return null;
-  const width = 2 ** Math.max(0, Math.ceil(Math.log2((span.hi - span.lo + 1) / FINE_CAP)));
-  const g = new Grid(span.lo, width, span.last);
-  const rows = connectionOf(store)
-    .prepare(
-      `SELECT CAST((t_ms - @o) / @w AS INTEGER) AS i, COUNT(*) AS n, MIN(dbm_dut) AS lo, MAX(dbm_dut) AS hi,
-              SUM(floor_limited) AS f
-       FROM readings WHERE ${where(role)} AND id <= @last GROUP BY i`,
-    )
-    .raw(true)
-    .all({ s: sessionId, role, o: g.origin, w: width, last: span.last }) as number[][];
+/** Sessions up to this many readings get a grid made from the readings themselves (as fine as FINE_CAP allows). */
+const FINE_READINGS = 100_000;
+/** reading_cells' width, ms (migrations/006_compact_readings.sql). */
+const CELL_MS = 1024;
+
+/**
+ * Builds a session's grid in one consistent read: from its readings when they are few, else from the
+ * 1024 ms cells the database keeps for it (tens of thousands of rows for a whole day instead of millions).
+ */
+function buildGrid(store: Store, sessionNo: number, role: PointRole | null): Grid | null {
+  const db = connectionOf(store);
+  return db.transaction(() => {
+    const p = { s: sessionNo, role };
+    const cells = db
+      .prepare(`SELECT MIN(cell) AS c0, MAX(cell) AS c1, SUM(n) AS n FROM reading_cells WHERE ${where(role)}`)
+      .get(p) as { c0: number | null; c1: number | null; n: number | null };
+    if (cells.c0 === null || cells.c1 === null || !cells.n) return null;
+    const last = (db.prepare('SELECT MAX(id) AS id FROM readings').get() as { id: number }).id;
+    if (cells.n <= FINE_READINGS) {
+      const span = db
+        .prepare(`SELECT MIN(t_ms) AS lo, MAX(t_ms) AS hi FROM readings WHERE ${where(role)}`)
+        .get(p) as { lo: number; hi: number };
+      const width = 2 ** Math.max(0, Math.ceil(Math.log2((span.hi - span.lo + 1) / FINE_CAP)));
+      const g = new Grid(span.lo, width, last);
+      const rows = db
+        .prepare(
+          `SELECT CAST((t_ms - @o) / @w AS INTEGER) AS i, COUNT(*) AS n, MIN(dbm_dut) AS lo, MAX(dbm_dut) AS hi,
+                  SUM(floor_limited) AS f
+           FROM readings WHERE ${where(role)} AND id <= @last GROUP BY i`,
+        )
+        .raw(true)
+        .all({ ...p, o: g.origin, w: width, last }) as number[][];
+      return fill(g, rows);
+    }
+    // Grid cells of 2^k database cells each, the first holding the session's first reading.
+    const k = Math.max(0, Math.ceil(Math.log2((cells.c1 - cells.c0 + 1) / FINE_CAP)));
+    const g = new Grid(cells.c0 * CELL_MS, CELL_MS * 2 ** k, last);
+    const rows = db
+      .prepare(
+        `SELECT (cell - @c0) >> @k AS i, SUM(n) AS n, MIN(lo) AS lo, MAX(hi) AS hi, SUM(floor) AS f
+         FROM reading_cells WHERE ${where(role)} GROUP BY i ORDER BY i`,
+      )
+      .raw(true)
+      .all({ ...p, c0: cells.c0, k }) as number[][];
+    return fill(g, rows);
+  })();
+}
+
+function fill(g: Grid, rows: number[][]): Grid {
   g.used = rows.length ? rows[rows.length - 1][0] + 1 : 0;
   g.grow(g.used);
   for (const [i, n, lo, hi, f] of rows) {
@@ -126,20 +159,20 @@ function buildGrid(store: Store, sessionId: string, role: PointRole | null): Gri
 }
 
 /** The session's grid, brought up to date with the readings stored since it was last asked for. */
-function gridFor(store: Store, sessionId: string, role: PointRole | null): Grid | null {
+function gridFor(store: Store, sessionId: string, sessionNo: number, role: PointRole | null): Grid | null {
   let mine = grids.get(store);
   if (!mine) grids.set(store, (mine = new Map()));
   const key = `${sessionId}\u0000${role ?? ''}`;
   let g = mine.get(key) ?? null;
   if (g) {
-    // "+session_id": walk the rowid range of the new readings, not the whole session's index entries.
+    // "+session_no": walk the rowid range of the new readings, not the whole session's index entries.
     const fresh = connectionOf(store)
       .prepare(
         `SELECT id, t_ms, dbm_dut, floor_limited FROM readings
-         WHERE id > @last AND +session_id = @s${role ? ' AND role = @role' : ''} ORDER BY id`,
+         WHERE id > @last AND +session_no = @s${role ? ' AND role = @role' : ''} ORDER BY id`,
       )
       .raw(true)
-      .all({ last: g.lastId, s: sessionId, role }) as number[][];
+      .all({ last: g.lastId, s: sessionNo, role }) as number[][];
     for (const [id, t, y, f] of fresh) {
       if (!g.add(t, y, f)) {
         g = null; // an older reading arrived (a bundle merged into this session): start again
@@ -148,7 +181,7 @@ function gridFor(store: Store, sessionId: string, role: PointRole | null): Grid 
       g.lastId = id;
     }
   }
-  if (!g) g = buildGrid(store, sessionId, role);
+  if (!g) g = buildGrid(store, sessionNo, role);
   mine.delete(key);
   if (g) mine.set(key, g);
   while (mine.size > GRIDS_KEPT) mine.delete(mine.keys().next().value!);
@@ -156,9 +189,16 @@ function gridFor(store: Store, sessionId: string, role: PointRole | null): Grid 
 }
 
 /** Straight from the table: exact times of each bucket's min and max; for windows the grid is too coarse for. */
-function direct(store: Store, q: SeriesQuery, fromT: number, toT: number, role: PointRole | null): Series {
+function direct(
+  store: Store,
+  q: SeriesQuery,
+  sessionNo: number,
+  fromT: number,
+  toT: number,
+  role: PointRole | null,
+): Series {
   const width = (toT - fromT) / q.buckets || 1;
-  const params = { s: q.sessionId, from: fromT, to: toT, w: width, last: q.buckets - 1, role };
+  const params = { s: sessionNo, from: fromT, to: toT, w: width, last: q.buckets - 1, role };
   const inWindow = `${where(role)} AND t_ms >= @from AND t_ms <= @to`;
   const bucket = `MIN(@last, CAST((t_ms - @from) / @w AS INTEGER))`;
   // SQLite takes a bare column from the row that holds the MIN() (or MAX()) when the query has just one:
@@ -194,10 +234,10 @@ function direct(store: Store, q: SeriesQuery, fromT: number, toT: number, role: 
 }
 
 export function sessionSeries(store: Store, q: SeriesQuery): Series {
-  store.getSession(q.sessionId);
+  const sessionNo = store.sessionNo(q.sessionId);
   check(Number.isInteger(q.buckets) && q.buckets >= 1 && q.buckets <= 5000, 'buckets', 'must be 1..5000');
   const role = q.role ?? null;
-  const g = gridFor(store, q.sessionId, role);
+  const g = gridFor(store, q.sessionId, sessionNo, role);
   if (!g) {
     const at = q.fromT ?? 0;
     return { sessionId: q.sessionId, fromT: at, toT: q.toT ?? at, bucketMs: 0, total: 0, buckets: [] };
@@ -206,7 +246,8 @@ export function sessionSeries(store: Store, q: SeriesQuery): Series {
   const toT = q.toT ?? g.origin + g.used * g.width;
   check(toT >= fromT, 'toT', `must not be before fromT (${fromT}), got ${toT}`);
   // Cells too coarse for what is asked (a short window): read the window itself.
-  if ((toT - fromT) / q.buckets < g.width || fromT < g.origin) return direct(store, q, fromT, toT, role);
+  if ((toT - fromT) / q.buckets < g.width || fromT < g.origin)
+    return direct(store, q, sessionNo, fromT, toT, role);
   // Buckets of k whole cells, from the cell holding fromT to the one holding toT.
   const i0 = Math.floor((fromT - g.origin) / g.width);
   const i1 = Math.min(g.used - 1, Math.floor((toT - g.origin) / g.width));

@@ -18,6 +18,7 @@ import type {
 import { openDb, type Db, type OpenOptions } from './db';
 import { registerConnection } from './connection';
 import type { NewReading, ReadingSink } from '../live/sink';
+import { uidToDb } from './uid';
 
 export interface NewSession {
   unitId: string;
@@ -122,6 +123,7 @@ export class Store implements ReadingSink {
   private readonly insertReadingStmt;
   private readonly sessionEndStmt;
   private readonly correctionIds = new Map<string, number>();
+  private readonly trimIds = new Map<string, number>();
 
   /** Opened for reading only: every write is refused by SQLite, and nothing that writes on start runs. */
   readonly readonly: boolean;
@@ -131,12 +133,12 @@ export class Store implements ReadingSink {
     this.readonly = opts.readonly ?? false;
     this.db = openDb(file, opts);
     registerConnection(this, this.db);
-    this.sessionEndStmt = this.db.prepare('SELECT ended_at FROM sessions WHERE id = ?');
+    this.sessionEndStmt = this.db.prepare('SELECT ended_at, no FROM sessions WHERE id = ?');
     this.insertReadingStmt = this.db.prepare(
-      `INSERT INTO readings (uid, session_id, t_ms, freq_hz, role, raw, dbm_rx, dbm_dut, u_db, settled, kept,
-         floor_limited, overload, trims_json, correction_id, note)
-       VALUES (@uid, @session_id, @t_ms, @freq_hz, @role, @raw, @dbm_rx, @dbm_dut, @u_db, @settled, @kept,
-         @floor_limited, @overload, @trims_json, @correction_id, @note)`,
+      `INSERT INTO readings (uid, session_no, t_ms, freq_hz, role, raw, dbm_rx, dbm_dut, u_db, settled, kept,
+         floor_limited, overload, trims_id, correction_id, note)
+       VALUES (@uid, @session_no, @t_ms, @freq_hz, @role, @raw, @dbm_rx, @dbm_dut, @u_db, @settled, @kept,
+         @floor_limited, @overload, @trims_id, @correction_id, @note)`,
     );
   }
 
@@ -150,7 +152,14 @@ export class Store implements ReadingSink {
    * before it writes never fails half-way because another writer went first.
    */
   tx<T>(fn: () => T): T {
-    return this.db.transaction(fn).immediate();
+    try {
+      return this.db.transaction(fn).immediate();
+    } catch (e) {
+      // A correction or trimmer setting first stored in the rolled-back transaction is gone again.
+      this.correctionIds.clear();
+      this.trimIds.clear();
+      throw e;
+    }
   }
 
   // ---- designs, revisions, units -------------------------------------------------------------
@@ -351,6 +360,13 @@ export class Store implements ReadingSink {
     return this.getSession(id);
   }
 
+  /** A session's number, which its readings refer to (schema 6). */
+  sessionNo(id: string): number {
+    const r = this.db.prepare('SELECT no FROM sessions WHERE id = ?').get(id) as { no: number } | undefined;
+    if (!r) throw new BenchError('ENOTFOUND', `no session with id "${id}"`, 'sessionId');
+    return r.no;
+  }
+
   getSession(id: string): Session {
     const r = this.db.prepare('SELECT * FROM sessions WHERE id = ?').get(id) as SessionRow | undefined;
     if (!r) throw new BenchError('ENOTFOUND', `no session with id "${id}"`, 'sessionId');
@@ -372,9 +388,9 @@ export class Store implements ReadingSink {
       .prepare(
         `SELECT s.id, s.unit_id AS unitId, u.serial, r.name AS revision, d.name AS design, s.started_at AS startedAt,
                 s.ended_at AS endedAt, s.operator,
-                (SELECT COUNT(*) FROM readings x WHERE x.session_id = s.id) AS readings,
-                (SELECT COUNT(*) FROM readings x WHERE x.session_id = s.id AND x.kept = 1) AS kept,
-                (SELECT MIN(x.dbm_dut) FROM readings x WHERE x.session_id = s.id AND x.kept = 1 AND x.role = 'carrier')
+                (SELECT COALESCE(SUM(c.n), 0) FROM reading_cells c WHERE c.session_no = s.no) AS readings,
+                (SELECT COUNT(*) FROM readings x WHERE x.session_no = s.no AND x.kept = 1) AS kept,
+                (SELECT MIN(x.dbm_dut) FROM readings x WHERE x.session_no = s.no AND x.kept = 1 AND x.role = 'carrier')
                   AS bestCarrierDbm
          FROM sessions s JOIN units u ON u.id = s.unit_id JOIN revisions r ON r.id = u.revision_id
               JOIN designs d ON d.id = r.design_id
@@ -401,6 +417,16 @@ export class Store implements ReadingSink {
     return row.id;
   }
 
+  /** The row of trim_sets holding one trimmer setting (stored once, as corrections are). */
+  private trimsId(json: string): number {
+    const cached = this.trimIds.get(json);
+    if (cached !== undefined) return cached;
+    this.db.prepare('INSERT OR IGNORE INTO trim_sets (json) VALUES (?)').run(json);
+    const row = this.db.prepare('SELECT id FROM trim_sets WHERE json = ?').get(json) as { id: number };
+    this.trimIds.set(json, row.id);
+    return row.id;
+  }
+
   /** Stores one reading and returns it with its row id. The write is committed when this returns. */
   addReading(r: NewReading): Reading {
     return this.tx(() => this.insertReading(r));
@@ -414,8 +440,9 @@ export class Store implements ReadingSink {
   private insertReading(r: NewReading): Reading {
     // Checked inside the reading's own (immediate) transaction, so an end written by another program
     // a moment ago is seen.
-    const s = this.sessionEndStmt.get(r.sessionId) as { ended_at: string | null } | undefined;
-    if (s?.ended_at)
+    const s = this.sessionEndStmt.get(r.sessionId) as { ended_at: string | null; no: number } | undefined;
+    if (!s) throw new BenchError('ENOTFOUND', `no session with id "${r.sessionId}"`, 'sessionId');
+    if (s.ended_at)
       throw new BenchError(
         'ECONFLICT',
         `this session ended at ${s.ended_at}: nothing more is stored in it; start a new session to measure again`,
@@ -433,8 +460,8 @@ export class Store implements ReadingSink {
         throw new BenchError('EINVAL', `must be a finite number, got ${v}`, `reading.${k}`);
     }
     const info = this.insertReadingStmt.run({
-      uid: r.uid ?? randomUUID(),
-      session_id: r.sessionId,
+      uid: uidToDb(r.uid ?? randomUUID()),
+      session_no: s.no,
       t_ms: r.t,
       freq_hz: r.freqHz,
       role: r.role,
@@ -446,7 +473,7 @@ export class Store implements ReadingSink {
       kept: r.kept ? 1 : 0,
       floor_limited: r.floorLimited ? 1 : 0,
       overload: r.overload ? 1 : 0,
-      trims_json: JSON.stringify(r.trims),
+      trims_id: this.trimsId(JSON.stringify(r.trims)),
       correction_id: this.correctionId(r.calibration, r.path),
       note: r.note ?? '',
     });
@@ -473,10 +500,17 @@ export class Store implements ReadingSink {
     this.getSession(sessionId);
     const rows = this.db
       .prepare(
-        `SELECT * FROM (SELECT * FROM readings WHERE session_id = ? AND (? = 0 OR kept = 1) ORDER BY t_ms DESC, id DESC LIMIT ?)
-         ORDER BY t_ms, id`,
+        `SELECT x.*, ? AS session_id, t.json AS trims_json
+         FROM (SELECT * FROM readings WHERE session_no = ? AND (? = 0 OR kept = 1) ORDER BY t_ms DESC, id DESC LIMIT ?) x
+         JOIN trim_sets t ON t.id = x.trims_id
+         ORDER BY x.t_ms, x.id`,
       )
-      .all(sessionId, opts.keptOnly ? 1 : 0, opts.limit ?? 1_000_000) as ReadingRow[];
+      .all(
+        sessionId,
+        this.sessionNo(sessionId),
+        opts.keptOnly ? 1 : 0,
+        opts.limit ?? 1_000_000,
+      ) as ReadingRow[];
     return rows.map(rowToReading);
   }
 

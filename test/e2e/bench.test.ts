@@ -144,7 +144,7 @@ describe('web mode, end to end', () => {
     assert.equal(ended.length, 1, 'one session ended');
     const count = () =>
       (
-        db.prepare('SELECT COUNT(*) AS n FROM readings WHERE session_id = ?').get(ended[0].id) as {
+        db.prepare('SELECT COUNT(*) AS n FROM readings_wide WHERE session_id = ?').get(ended[0].id) as {
           n: number;
         }
       ).n;

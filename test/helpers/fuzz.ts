@@ -121,7 +121,7 @@ export function assertNoBadRows(db: import('better-sqlite3').Database, what: str
     'reference',
     'floor',
   ]);
-  for (const r of db.prepare('SELECT * FROM readings').all() as Record<string, unknown>[]) {
+  for (const r of db.prepare('SELECT * FROM readings_wide').all() as Record<string, unknown>[]) {
     finite(r, ['t_ms', 'freq_hz', 'raw', 'dbm_rx', 'dbm_dut', 'u_db'], 'readings');
     assert.ok((r.u_db as number) >= 0, `${what}: reading ${String(r.id)} has a negative uncertainty`);
     assert.ok(roles.has(r.role as string), `${what}: reading ${String(r.id)} has role ${String(r.role)}`);

@@ -163,7 +163,7 @@ describe('nullbench CLI', () => {
       // Revision R2's better layout shows as a deeper carrier null than R1's, in the stored readings.
       const best = conn
         .prepare(
-          `SELECT r.name AS rev, MIN(x.dbm_dut) AS best FROM readings x JOIN sessions s ON s.id = x.session_id
+          `SELECT r.name AS rev, MIN(x.dbm_dut) AS best FROM readings_wide x JOIN sessions s ON s.id = x.session_id
            JOIN units u ON u.id = s.unit_id JOIN revisions r ON r.id = u.revision_id
            WHERE x.kept = 1 AND x.role = 'carrier' GROUP BY r.name ORDER BY r.name`,
         )

@@ -150,7 +150,7 @@ describe('nullbench log under SIGKILL', () => {
           assert.equal(conn.pragma('integrity_check', { simple: true }), 'ok', where);
           assert.deepEqual(conn.pragma('foreign_key_check'), [], where);
           const get = conn.prepare(
-            'SELECT id, session_id, t_ms, raw, dbm_rx, dbm_dut, u_db FROM readings WHERE id = ?',
+            'SELECT id, session_id, t_ms, raw, dbm_rx, dbm_dut, u_db FROM readings_wide WHERE id = ?',
           );
           for (const a of r.acks) {
             const row = get.get(a.id) as

@@ -55,14 +55,14 @@ describe('records.readingsCsv()', () => {
       // A note with a comma, a quote and a line break must survive the trip.
       connectionOf(store)
         .prepare(
-          'UPDATE readings SET note = ? WHERE id = (SELECT MIN(id) FROM readings WHERE session_id = ?)',
+          'UPDATE readings SET note = ? WHERE id = (SELECT MIN(id) FROM readings_wide WHERE session_id = ?)',
         )
         .run('turned "A", then\nwaited', s.id);
       const r = readingsCsv(store, { unitId: u.id });
       assert.ok(r.csv.startsWith('\uFEFF'), 'UTF-8 byte order mark for spreadsheets');
       const rows = pyRows(r.csv);
       const n = (
-        connectionOf(store).prepare('SELECT COUNT(*) AS n FROM readings WHERE session_id = ?').get(s.id) as {
+        connectionOf(store).prepare('SELECT COUNT(*) AS n FROM readings_wide WHERE session_id = ?').get(s.id) as {
           n: number;
         }
       ).n;
@@ -81,7 +81,7 @@ describe('records.readingsCsv()', () => {
         assert.ok(head.includes(h), `header has "${h}"`);
       const col = (name: string) => head.indexOf(name);
       const stored = connectionOf(store)
-        .prepare('SELECT uid, dbm_dut, freq_hz, note FROM readings WHERE session_id = ? ORDER BY t_ms, id')
+        .prepare('SELECT uid, dbm_dut, freq_hz, note FROM readings_wide WHERE session_id = ? ORDER BY t_ms, id')
         .all(s.id) as { uid: string; dbm_dut: number; freq_hz: number; note: string }[];
       rows.slice(1).forEach((row, i) => {
         assert.equal(row.length, head.length);

@@ -44,7 +44,7 @@ function assertGapsClean(db: Database.Database, sessionId: string, codes: RegExp
     `gap codes ${gaps.map((g) => g.code).join(', ')}`,
   );
   const ts = (
-    db.prepare('SELECT t_ms FROM readings WHERE session_id = ?').all(sessionId) as { t_ms: number }[]
+    db.prepare('SELECT t_ms FROM readings_wide WHERE session_id = ?').all(sessionId) as { t_ms: number }[]
   ).map((r) => r.t_ms);
   for (const g of gaps) {
     assert.ok(

@@ -81,7 +81,7 @@ describe('one program at a time writes a session', () => {
         ended_at: string;
       };
       const last = conn
-        .prepare('SELECT MAX(t_ms) AS t FROM readings WHERE session_id = ?')
+        .prepare('SELECT MAX(t_ms) AS t FROM readings_wide WHERE session_id = ?')
         .get(sessionId) as {
         t: number;
       };

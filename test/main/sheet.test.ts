@@ -23,7 +23,7 @@ function lastKept(file: string, serial: string): Record<string, number> {
   const db = new Database(file, { readonly: true });
   const rows = db
     .prepare(
-      `SELECT x.role, x.dbm_dut FROM readings x JOIN sessions s ON s.id = x.session_id JOIN units u ON u.id = s.unit_id
+      `SELECT x.role, x.dbm_dut FROM readings_wide x JOIN sessions s ON s.id = x.session_id JOIN units u ON u.id = s.unit_id
        WHERE u.serial = ? AND x.kept = 1 ORDER BY x.t_ms, x.id`,
     )
     .all(serial) as { role: string; dbm_dut: number }[];

@@ -9,6 +9,7 @@ import Database from 'better-sqlite3';
 import {
   backupBeforeUpgrade,
   loadMigrations,
+  migrate,
   openDb,
   schemaVersion,
   type Db,
@@ -25,6 +26,10 @@ const T0 = '2026-05-02T18:00:00.000Z';
  * migration that adds columns with defaults does not break them). A migration that adds a table needs its
  * filler here: the fixture check below names the empty table.
  */
+/** Canonical UUIDs, as the store makes them (the last five readings have ids a bundle may bring instead). */
+const UUIDS = (i: number) =>
+  `${i.toString(16).padStart(8, '0')}-9c5e-4a2b-8d1f-${'0123456789ab'.slice(0, 12)}`;
+
 const FILLERS: Record<number, string[]> = {
   1: [
     `INSERT INTO designs (id, name, notes, created_at) VALUES ('d1', 'Kestrel 20', 'two-tone DSB kit', '${T0}')`,
@@ -42,7 +47,7 @@ const FILLERS: Record<number, string[]> = {
       (_, i) =>
         `INSERT INTO readings (id, uid, session_id, t_ms, freq_hz, role, raw, dbm_rx, dbm_dut, u_db, settled, kept,
            floor_limited, overload, trims_json, correction_id, note)
-         VALUES (${i + 1}, 'uid-${i}', 's1', ${1.77e12 + i * 40}, 7100000, '${i % 5 === 0 ? 'upper' : 'carrier'}',
+         VALUES (${i + 1}, '${i < 20 ? UUIDS(i) : `uid-${i}`}', 's1', ${1.77e12 + i * 40}, 7100000, '${i % 5 === 0 ? 'upper' : 'carrier'}',
            ${-20 + i}, ${-93 + i + 0.25}, ${-53 + i + 0.25}, 1.2, ${i % 2}, ${i % 7 === 0 ? 1 : 0}, 0, 0,
            '{"A":${(i / 5).toFixed(1)}}', 1, '${i === 3 ? "it''s kept" : ''}')`,
     ),
@@ -75,6 +80,13 @@ const FILLERS: Record<number, string[]> = {
     `INSERT INTO session_leases (session_id, pid, host, program, taken_at, heartbeat_at)
        VALUES ('s1', 999999, 'bench-pc', 'log', '${T0}', '${T0}')`,
   ],
+  6: [
+    `INSERT INTO trim_sets (id, json) VALUES (900, '{"A":9.9}')`,
+    `INSERT INTO readings (id, uid, session_no, t_ms, freq_hz, role, raw, dbm_rx, dbm_dut, u_db, settled, kept,
+       floor_limited, overload, trims_id, correction_id, note)
+       VALUES (26, unhex('00000019a5e24a2b8d1f0123456789ab'), 1, ${1.77e12 + 25 * 40}, 7100000, 'carrier', 5, -68,
+         -28, 1.2, 1, 0, 0, 0, 900, 1, '')`,
+  ],
 };
 
 function tables(db: Db): string[] {
@@ -87,15 +99,21 @@ function tables(db: Db): string[] {
   ).map((r) => r.name);
 }
 
+function hasView(db: Db, name: string): boolean {
+  return !!db.prepare("SELECT 1 FROM sqlite_master WHERE type = 'view' AND name = ?").get(name);
+}
+
 /** Every row of every table but schema_migrations, in a fixed order. */
 function snapshot(db: Db): Record<string, Record<string, unknown>[]> {
   const out: Record<string, Record<string, unknown>[]> = {};
   for (const t of tables(db)) {
     if (t === 'schema_migrations') continue;
-    const cols = (db.prepare(`SELECT * FROM "${t}" LIMIT 0`).columns() as { name: string }[]).map(
+    // Schema 6 keeps readings compact (migrations/006_compact_readings.sql); its view shows them as before.
+    const from = t === 'readings' && hasView(db, 'readings_wide') ? 'readings_wide' : t;
+    const cols = (db.prepare(`SELECT * FROM "${from}" LIMIT 0`).columns() as { name: string }[]).map(
       (c) => `"${c.name}"`,
     );
-    out[t] = db.prepare(`SELECT * FROM "${t}" ORDER BY ${cols.join(', ')}`).all() as Record<
+    out[t] = db.prepare(`SELECT * FROM "${from}" ORDER BY ${cols.join(', ')}`).all() as Record<
       string,
       unknown
     >[];
@@ -105,11 +123,15 @@ function snapshot(db: Db): Record<string, Record<string, unknown>[]> {
 
 /** A database file with exactly the migrations `list` applied, filled; returns its snapshot. */
 function fixture(file: string, list: Migration[]) {
-  const db = openDb(file, { migrations: list });
+  // Each migration, then its rows: a later one may rebuild a table an earlier one filled.
+  const db = openDb(file, { migrations: list.slice(0, 1) });
   try {
-    db.transaction(() => {
-      for (const m of list) for (const sql of FILLERS[m.version] ?? []) db.exec(sql);
-    })();
+    list.forEach((m, i) => {
+      migrate(db, list.slice(0, i + 1));
+      db.transaction(() => {
+        for (const sql of FILLERS[m.version] ?? []) db.exec(sql);
+      })();
+    });
     const snap = snapshot(db);
     for (const [t, rows] of Object.entries(snap))
       assert.ok(
