@@ -5,7 +5,7 @@
 import { BenchError, check, isBenchError } from '../errors';
 import { fitNull1D, type NullFit1D } from './fit1d';
 import { fitNull2D, type NullFit2D } from './fit2d';
-import { fixed, signedAmount, unitSuffix } from './format';
+import { fixed, moveText, unitSuffix } from './format';
 import { DEFAULT_GUIDE_UDB, type TrialMode } from './guide';
 import { nextTrial1D } from './guide1d';
 import { nextTrial2D } from './guide2d';
@@ -119,7 +119,10 @@ export interface TrialSummary {
   moves: Record<string, number> | null;
   /** "set A to 4.370 turns, B to 5.120 turns" */
   setText: string;
-  /** "turn A +0.350 turns, B −0.120 turns" ('' when where the trimmers stand is not known). */
+  /**
+   * "turn A +0.250 turns (a quarter turn clockwise), B −12.0° (about 12° anticlockwise, a little past, then
+   * back clockwise)" ('' when where the trimmers stand is not known).
+   */
   turnText: string;
   /** Predicted reading at the next setting, dBm at the transmitter, with its band; null while surveying. */
   predictedDbm: number | null;
@@ -436,7 +439,7 @@ export function guideSession(
     turnText =
       turn.length === 0
         ? `leave ${sel.defs.map((d) => d.key).join(' and ')} where ${sel.defs.length > 1 ? 'they are' : 'it is'}`
-        : `turn ${turn.map((d) => `${d.key} ${signedAmount(moves[d.key], step(d), d.unit)}`).join(', ')}` +
+        : `turn ${turn.map((d) => `${d.key} ${moveText(moves[d.key], step(d), d.unit)}`).join(', ')}` +
           (still.length ? `; leave ${still.map((d) => d.key).join(' and ')}` : '');
   }
   const usedLevels = sel.used.map((r) => r.dbmDut);

@@ -36,6 +36,69 @@ export function signedAmount(x: number, step: number, unit: string): string {
   return `${sign}${body}${unitSuffix(unit)}`;
 }
 
+const EIGHTHS = [
+  '',
+  'an eighth of a turn',
+  'a quarter turn',
+  'three eighths of a turn',
+  'half a turn',
+  'five eighths of a turn',
+  'three quarters of a turn',
+  'seven eighths of a turn',
+];
+
+const PARTS = [
+  '',
+  'an eighth',
+  'a quarter',
+  'three eighths',
+  'a half',
+  'five eighths',
+  'three quarters',
+  'seven eighths',
+];
+
+/**
+ * A move as a hand makes it without reading the scale: "a quarter turn clockwise", "about 20° anticlockwise".
+ * Positive moves are clockwise (a trimmer's scale rises clockwise, common practice). A move back
+ * anticlockwise ends clockwise again: past the setting and back, so the trimmer's play is always taken up
+ * from the same side and the setting lands where it was asked for. '' for units that are not turns or degrees.
+ */
+export function handMove(x: number, unit: string): string {
+  const u = unit.trim().toLowerCase();
+  const turns = /^(turns?|rev|revs|revolutions?)$/.test(u)
+    ? x
+    : /^(°|deg|degrees?)$/.test(u)
+      ? x / 360
+      : null;
+  if (turns === null || x === 0) return '';
+  const way = turns > 0 ? 'clockwise' : 'anticlockwise, a little past, then back clockwise';
+  const a = Math.abs(turns);
+  const eighths = Math.round(a * 8);
+  let how: string;
+  if (a < 1 / 16) {
+    const deg = Math.round(a * 360);
+    how = deg < 1 ? 'a touch (under 1°)' : `about ${deg}°`;
+  } else {
+    const whole = Math.floor(eighths / 8);
+    const part = eighths % 8;
+    const n = whole === 1 ? 'one' : String(whole);
+    how =
+      whole === 0
+        ? EIGHTHS[part]
+        : part === 0
+          ? `${n} turn${whole === 1 ? '' : 's'}`
+          : `${n} and ${PARTS[part]} turns`;
+  }
+  return `${how} ${way}`;
+}
+
+/** A signed move with the hand's version beside it when there is one: "+0.250 turns (a quarter turn clockwise)". */
+export function moveText(x: number, step: number, unit: string): string {
+  const hand = handMove(Math.round(x / step) * step, unit);
+  return `${signedAmount(x, step, unit)}${hand ? ` (${hand})` : ''}`;
+}
+
 export function unitSuffix(unit: string): string {
   if (!unit) return '';
   // Degree, minute and percent signs sit on the number; word units get a space.

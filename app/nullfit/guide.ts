@@ -42,6 +42,16 @@ export function guideUDb(opts: GuideOptions): number {
   return u;
 }
 
+/**
+ * The guide's reading uncertainty for a meter whose reading moves in steps of stepDb: the step read as a
+ * uniform distribution, step/√12 (GUM 4.3.7), never below the default (noise and settling). A meter read in
+ * S-units (6 dB) gives 1.73 dB; a 1 dB or finer readout keeps the default.
+ */
+export function meterUDb(stepDb?: number): number {
+  if (stepDb === undefined || !Number.isFinite(stepDb) || stepDb <= 0) return DEFAULT_GUIDE_UDB;
+  return Math.max(DEFAULT_GUIDE_UDB, stepDb / Math.sqrt(12));
+}
+
 export function checkRange(r: unknown, field: string): [number, number] {
   check(
     Array.isArray(r) &&

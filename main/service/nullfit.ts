@@ -5,6 +5,7 @@ import type { z } from 'zod';
 import { NULL_CALLS, type NullCallResults } from '../../app/api/nullfit';
 import { BenchError } from '../../app/errors';
 import { fitSession, guideSession, trimStep, type AlignOptions } from '../../app/nullfit/align';
+import { meterUDb } from '../../app/nullfit/guide';
 import type { GroupHandlers, ServiceContext } from './handlers';
 
 export class NullfitCalls {
@@ -36,7 +37,8 @@ export class NullfitCalls {
         current,
         sinceId: a.sinceId,
         floorDbm,
-        uDb: a.uDb,
+        // Unless the caller says otherwise, the meter's own step sets how far one reading can be trusted.
+        uDb: a.uDb ?? meterUDb(open?.source.meterStepDb),
       };
       return { trims: session.trims, kept, opts };
     };

@@ -1,5 +1,6 @@
 // Runs in Node (pure, no I/O). The simulated receiver used as a selective level meter: a tuned filter,
-// a thermal noise floor, front-end compression, an S-meter with attack/decay, 1 dB quantisation.
+// a thermal noise floor, front-end compression, an S-meter with attack/decay, and the steps its reading moves
+// in: 1 dB (the default), 0.1 dB, or S-units (6 dB below S9, 10 dB above, as many receivers report them).
 import { powerSumDb, thermalNoiseDbm } from '../../app/levels';
 import type { Line } from './transmitter';
 import { Rng } from './rng';
@@ -17,8 +18,14 @@ export interface ReceiverConfig {
   s9Dbm: number;
   meterMinDb: number;
   meterMaxDb: number;
-  /** Meter reading step, dB. */
+  /** Meter reading step, dB, on a 'db' scale. */
   quantDb: number;
+  /**
+   * 'db': steps of quantDb. 's-units': the S-unit the level has reached, 6 dB apart below S9 and 10 dB apart
+   * above (IARU Region 1 R.1 defines S-units 6 dB apart; the coarser steps above S9 are what many receivers
+   * report over their control link, common practice).
+   */
+  meterScale: 'db' | 's-units';
   /** Meter ballistics (R.1: attack 10 ms, decay time constant ≥ 500 ms). */
   attackMs: number;
   decayMs: number;
@@ -36,6 +43,7 @@ export const DEFAULT_RECEIVER: ReceiverConfig = {
   meterMinDb: -54,
   meterMaxDb: 60,
   quantDb: 1,
+  meterScale: 'db',
   attackMs: 10,
   decayMs: 500,
   latencyMs: 40,
@@ -111,7 +119,28 @@ export class SimReceiver {
     }
     this.lastT = tMs;
     const clamped = Math.min(c.meterMaxDb, Math.max(c.meterMinDb, this.meterDb));
-    const strengthDb = Math.round(clamped / c.quantDb) * c.quantDb;
-    return { strengthDb, trueInputDbm: input };
+    return { strengthDb: meterStep(clamped, c), trueInputDbm: input };
   }
+
+  /** The smallest step the meter's reading moves in near a null (below S9), dB. */
+  get stepDb(): number {
+    return this.cfg.meterScale === 's-units' ? S_UNIT_DB : this.cfg.quantDb;
+  }
+}
+
+/** One S-unit below S9, dB (IARU Region 1 R.1). */
+export const S_UNIT_DB = 6;
+/** A step above S9 on the S-unit scale, dB (common practice). */
+export const OVER_S9_STEP_DB = 10;
+
+/** What the meter shows for a level in dB relative to S9. */
+export function meterStep(db: number, c: Pick<ReceiverConfig, 'quantDb' | 'meterScale'>): number {
+  if (c.meterScale === 's-units') {
+    // The S-unit reached: S8 from -6 dB up to S9, S9+10 from +10 dB up to +20.
+    const step = db < 0 ? S_UNIT_DB : OVER_S9_STEP_DB;
+    return Math.floor(db / step + 1e-9) * step;
+  }
+  // Rounded to the step, and to a whole number of them (0.1 dB steps read 0.3, not 0.30000000000000004).
+  const n = Math.round(db / c.quantDb);
+  return Number((n * c.quantDb).toFixed(6));
 }

@@ -36,6 +36,13 @@ export interface TransmitterConfig {
   driftPerSqrtS: number;
   /** Deliberately unbalanced (the reference measurement): carrier near one sideband's level. */
   unbalanced: boolean;
+  /**
+   * Play in each trimmer, turns: the wiper follows the shaft only once the shaft has taken up this much after
+   * a change of direction (so a setting depends on the side it was approached from).
+   */
+  backlashTurns: number;
+  /** The wiper's granularity, turns: where it rests is a whole number of these (0: continuous). */
+  wiperStepTurns: number;
 }
 
 export const DEFAULT_TRANSMITTER: TransmitterConfig = {
@@ -55,11 +62,16 @@ export const DEFAULT_TRANSMITTER: TransmitterConfig = {
   harmonicsDbc: [-42, -48, -56, -60],
   driftPerSqrtS: 0.0004,
   unbalanced: false,
+  backlashTurns: 0,
+  wiperStepTurns: 0,
 };
 
 export class SimTransmitter {
   readonly cfg: TransmitterConfig;
+  /** Where the builder set the shafts. */
   private trims = { A: 2.0, B: 5.0 };
+  /** Where the wipers rest (the shafts less the play taken up, on the wiper's granularity). */
+  private wipers = { A: 2.0, B: 5.0 };
   private driftA = 0;
   private driftB = 0;
   private lastT: number | null = null;
@@ -71,8 +83,23 @@ export class SimTransmitter {
   }
 
   setTrims(t: Record<string, number>): void {
-    if (typeof t.A === 'number') this.trims.A = t.A;
-    if (typeof t.B === 'number') this.trims.B = t.B;
+    for (const k of ['A', 'B'] as const) {
+      const x = t[k];
+      if (typeof x !== 'number') continue;
+      this.trims[k] = x;
+      // Play: the wiper stays put while the shaft turns within half the play either side of it.
+      const half = this.cfg.backlashTurns / 2;
+      let w = this.wipers[k];
+      if (x > w + half) w = x - half;
+      else if (x < w - half) w = x + half;
+      const g = this.cfg.wiperStepTurns;
+      this.wipers[k] = g > 0 ? Math.round(w / g) * g : w;
+    }
+  }
+
+  /** Where the wipers rest now (what sets the carrier), for tests and benchmarks. */
+  wiperPositions(): { A: number; B: number } {
+    return { ...this.wipers };
   }
 
   getTrims(): { A: number; B: number } {
@@ -103,8 +130,8 @@ export class SimTransmitter {
   carrierRatio(): number {
     const c = this.cfg;
     if (c.unbalanced) return 0.5;
-    const ea = this.trims.A - (c.balanceA + this.driftA);
-    const eb = this.trims.B - (c.balanceB + this.driftB);
+    const ea = this.wipers.A - (c.balanceA + this.driftA);
+    const eb = this.wipers.B - (c.balanceB + this.driftB);
     const th = (c.angleDeg * Math.PI) / 180;
     // Phasor sum of the two trimmers' contributions along their own directions.
     const re = c.gainA * ea + c.gainB * eb * Math.cos(th);

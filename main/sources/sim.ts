@@ -15,9 +15,22 @@ export interface SimSpec {
   pepDbm?: number;
   leakageDbc?: number;
   startMs?: number;
+  /** The meter's steps: 's-units', or a step in dB (1 by default, 0.1 for a fine readout). */
+  meter?: 's-units' | number;
+  /** The meter's decay time constant, ms (a slow meter: 2000 and more). */
+  decayMs?: number;
+  /** Play in each trimmer, turns. */
+  playTurns?: number;
+  /** Each trimmer wiper's granularity, turns. */
+  grainTurns?: number;
 }
 
-/** Parses "sim", "sim:seed=7", "sim:seed=7,loss=50,fast" (fast = virtual clock, no waiting). */
+const KEYS = 'seed, loss, carrier, tone, pep, leak, t0, meter, decay, play, grain';
+
+/**
+ * Parses "sim", "sim:seed=7", "sim:seed=7,loss=50,fast" (fast = virtual clock, no waiting),
+ * "sim:meter=s,play=0.02" (an S-unit meter, trimmers with play).
+ */
 export function parseSimSpec(spec: string): SimSpec {
   const out: SimSpec = { seed: 1, virtualTime: false };
   const rest = spec.trim().slice(3);
@@ -33,12 +46,12 @@ export function parseSimSpec(spec: string): SimSpec {
     const [k, v, extra] = part.split('=');
     const n = Number(v);
     const where = `source item ${i + 1} ("${part}")`;
+    if (k === 'meter' && (v === 's' || v === 's-units') && extra === undefined) {
+      out.meter = 's-units';
+      continue;
+    }
     if (extra !== undefined || v === undefined || v.trim() === '' || !Number.isFinite(n))
-      throw new BenchError(
-        'EINVAL',
-        'expected key=number (seed, loss, carrier, tone, pep, leak, t0) or "fast"',
-        where,
-      );
+      throw new BenchError('EINVAL', `expected key=number (${KEYS}), meter=s (S-units) or "fast"`, where);
     if (k === 'seed') out.seed = Math.trunc(n);
     else if (k === 'loss') {
       if (n < 0 || n > 120) throw new BenchError('EINVAL', 'path loss must be 0..120 dB', where);
@@ -48,12 +61,17 @@ export function parseSimSpec(spec: string): SimSpec {
     else if (k === 'pep') out.pepDbm = n;
     else if (k === 'leak') out.leakageDbc = n;
     else if (k === 't0') out.startMs = n;
-    else
-      throw new BenchError(
-        'EINVAL',
-        `unknown key "${k}" (use seed, loss, carrier, tone, pep, leak, t0 or fast)`,
-        where,
-      );
+    else if (k === 'meter') {
+      if (n < 0.01 || n > 10) throw new BenchError('EINVAL', 'a meter step must be 0.01..10 dB, or s', where);
+      out.meter = n;
+    } else if (k === 'decay') {
+      if (n < 1 || n > 60_000) throw new BenchError('EINVAL', 'the meter decay must be 1..60000 ms', where);
+      out.decayMs = n;
+    } else if (k === 'play' || k === 'grain') {
+      if (n < 0 || n > 1) throw new BenchError('EINVAL', `${k} must be 0..1 turn`, where);
+      if (k === 'play') out.playTurns = n;
+      else out.grainTurns = n;
+    } else throw new BenchError('EINVAL', `unknown key "${k}" (use ${KEYS} or fast)`, where);
   }
   return out;
 }
@@ -72,7 +90,14 @@ export class SimSource implements LevelSource {
       pathLossDb: opts.lossDb,
       virtualTime: opts.virtualTime,
       startMs: opts.startMs,
+      receiver: {
+        ...(opts.meter === 's-units' ? { meterScale: 's-units' as const } : {}),
+        ...(typeof opts.meter === 'number' ? { quantDb: opts.meter } : {}),
+        ...(opts.decayMs !== undefined ? { decayMs: opts.decayMs } : {}),
+      },
       transmitter: {
+        ...(opts.playTurns !== undefined ? { backlashTurns: opts.playTurns } : {}),
+        ...(opts.grainTurns !== undefined ? { wiperStepTurns: opts.grainTurns } : {}),
         ...(opts.leakageDbc !== undefined ? { leakageDbc: opts.leakageDbc } : {}),
         ...(opts.carrierHz ? { carrierHz: opts.carrierHz } : {}),
         ...(opts.toneHz ? { toneHz: opts.toneHz } : {}),
@@ -104,6 +129,11 @@ export class SimSource implements LevelSource {
     if (!o.carrierHz) cfg.carrierHz = setup.carrierHz;
     if (!o.toneHz) cfg.toneHz = setup.toneHz;
     this.bench.rx.tune(cfg.carrierHz);
+  }
+
+  /** The meter's step near a null, dB: the guide's reading uncertainty follows from it. */
+  get meterStepDb(): number {
+    return this.bench.rx.stepDb;
   }
 
   async open(): Promise<void> {}
@@ -140,7 +170,8 @@ export class SimSource implements LevelSource {
 export const simDriver: SourceDriver = {
   kind: 'sim',
   summary: 'the built-in simulated bench (a DSB transmitter with two balance trimmers, a receiver, a pad)',
-  syntax: 'sim[:seed=N,loss=DB,carrier=HZ,tone=HZ,pep=DBM,leak=DBC,fast]',
+  syntax:
+    'sim[:seed=N,loss=DB,carrier=HZ,tone=HZ,pep=DBM,leak=DBC,meter=s|DB,decay=MS,play=TURNS,grain=TURNS,fast]',
   caps: CAPS,
   matches: (spec) => spec === 'sim' || spec.startsWith('sim:'),
   create: (spec) => new SimSource(spec, parseSimSpec(spec)),

@@ -48,6 +48,11 @@ export interface LevelSource {
   readonly caps: SourceCaps;
   /** The receiver's noise floor at the antenna socket, dBm, when the source knows it. */
   readonly noiseFloorDbm?: number;
+  /**
+   * The smallest step the receiver's reading moves in near a null, dB, when the source knows it (a meter read
+   * in S-units: 6). The guide takes at least step/√12 as its reading uncertainty (GUM 4.3.7, uniform).
+   */
+  readonly meterStepDb?: number;
   /** What read() returns, when known before the first reading (after open() for sources that ask the receiver). */
   readonly quantity?: RawQuantity;
   open(): Promise<void>;

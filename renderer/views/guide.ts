@@ -12,7 +12,7 @@ import type {
   Status,
   TrialSummary,
 } from '../../app/api';
-import { fixed, signedAmount, unitSuffix } from '../../app/nullfit/format';
+import { fixed, moveText, unitSuffix } from '../../app/nullfit/format';
 import { ApiError } from '../api';
 import { clear, h } from '../dom';
 import { dbm } from '../format';
@@ -421,7 +421,7 @@ export class GuidePanel {
       turn =
         go.length === 0
           ? `leave ${stay.join(' and ')} where ${stay.length > 1 ? 'they are' : 'it is'}`
-          : `turn ${go.map((m) => `${m.k} ${signedAmount(m.d, m.step, this.label(m.k).unit)}`).join(', ')}` +
+          : `turn ${go.map((m) => `${m.k} ${moveText(m.d, m.step, this.label(m.k).unit)}`).join(', ')}` +
             (stay.length ? `; leave ${stay.join(' and ')}` : '');
     }
     return [turn, ...held].filter(Boolean).join(' · ');

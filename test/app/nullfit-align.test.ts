@@ -12,6 +12,7 @@ import {
 } from '../../app/nullfit/align';
 import { fitNull2D } from '../../app/nullfit/fit2d';
 import { BenchError } from '../../app/errors';
+import { handMove, moveText } from '../../app/nullfit/format';
 import { polar, reading1D, reading2D, rng, type Bench1D, type Bench2D } from './nullfit-helpers';
 
 const TRIMS: AlignTrim[] = [
@@ -140,11 +141,19 @@ describe('guideSession()', () => {
     assert.deepEqual(t.next, { A: 5, B: 150 });
     // Turns are word units, degrees sit on the number; the steps give the digits (0.005 turn, 0.5°).
     assert.equal(t.setText, 'set A to 5.000 turns, B to 150.0°');
-    assert.equal(t.turnText, 'turn A +3.000 turns, B −12.0°');
+    // With the move a hand makes without reading the scale beside each (clockwise raises the scale, common
+    // practice; a move back ends clockwise, so the trimmer's play is taken up from one side).
+    assert.equal(
+      t.turnText,
+      'turn A +3.000 turns (3 turns clockwise), B −12.0° (about 12° anticlockwise, a little past, then back clockwise)',
+    );
     assert.deepEqual(t.resolution, { A: 0.005, B: 0.5 });
     assert.deepEqual(t.moves, { A: 3, B: -12 });
     const here = guideSession([], TRIMS, { keys: ['A', 'B'], current: { A: 5, B: 162 } });
-    assert.equal(here.turnText, 'turn B −12.0°; leave A');
+    assert.equal(
+      here.turnText,
+      'turn B −12.0° (about 12° anticlockwise, a little past, then back clockwise); leave A',
+    );
     const unknown = guideSession([], TRIMS, { keys: ['A'] });
     assert.equal(unknown.turnText, '');
     assert.equal(unknown.moves, null);
@@ -182,5 +191,21 @@ describe('guideSession()', () => {
     const u = guideSession(rr, renamed, { keys: ['R', 'C'] });
     assert.match(u.reason, /\bR \d+\.\d{3}, C \d+\.\d\b/);
     assert.doesNotMatch(u.reason, /\bA \d/);
+  });
+});
+
+describe('handMove()', () => {
+  it('says a move as a hand makes it: fractions of a turn, or degrees for small moves', () => {
+    assert.equal(handMove(0.25, 'turns'), 'a quarter turn clockwise');
+    assert.equal(handMove(0.5, 'turn'), 'half a turn clockwise');
+    assert.equal(handMove(1.25, 'turns'), 'one and a quarter turns clockwise');
+    assert.equal(handMove(2, 'turns'), '2 turns clockwise');
+    // 0.04 turn = 14.4°; below 1/16 turn an eighth-turn scale is too coarse, so degrees.
+    assert.equal(handMove(0.04, 'turns'), 'about 14° clockwise');
+    assert.equal(handMove(0.001, 'turns'), 'a touch (under 1°) clockwise');
+    assert.equal(handMove(-90, '°'), 'a quarter turn anticlockwise, a little past, then back clockwise');
+    // Units that are not an angle get no hand version.
+    assert.equal(handMove(2, 'mm'), '');
+    assert.equal(moveText(0.25, 0.005, 'turns'), '+0.250 turns (a quarter turn clockwise)');
   });
 });

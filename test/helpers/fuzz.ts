@@ -78,10 +78,12 @@ export function snapshotDb(db: import('better-sqlite3').Database): string {
       )
       .all() as { name: string }[]
   ).map((r) => r.name);
-  return JSON.stringify(
-    tables.map((t) => [t, db.prepare(`SELECT * FROM "${t}" ORDER BY rowid`).all()]),
-    (_k, v: unknown) => (typeof v === 'bigint' ? String(v) : v),
-  );
+  const text = (v: unknown) =>
+    JSON.stringify(v, (_k, x: unknown) =>
+      typeof x === 'bigint' ? String(x) : x instanceof Uint8Array ? Buffer.from(x).toString('hex') : x,
+    );
+  // Rows in a fixed order (some tables, reading_cells among them, have no rowid).
+  return text(tables.map((t) => [t, db.prepare(`SELECT * FROM "${t}"`).all().map(text).sort()]));
 }
 
 /**
