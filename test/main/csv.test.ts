@@ -62,7 +62,9 @@ describe('records.readingsCsv()', () => {
       assert.ok(r.csv.startsWith('\uFEFF'), 'UTF-8 byte order mark for spreadsheets');
       const rows = pyRows(r.csv);
       const n = (
-        connectionOf(store).prepare('SELECT COUNT(*) AS n FROM readings_wide WHERE session_id = ?').get(s.id) as {
+        connectionOf(store)
+          .prepare('SELECT COUNT(*) AS n FROM readings_wide WHERE session_id = ?')
+          .get(s.id) as {
           n: number;
         }
       ).n;
@@ -81,7 +83,9 @@ describe('records.readingsCsv()', () => {
         assert.ok(head.includes(h), `header has "${h}"`);
       const col = (name: string) => head.indexOf(name);
       const stored = connectionOf(store)
-        .prepare('SELECT uid, dbm_dut, freq_hz, note FROM readings_wide WHERE session_id = ? ORDER BY t_ms, id')
+        .prepare(
+          'SELECT uid, dbm_dut, freq_hz, note FROM readings_wide WHERE session_id = ? ORDER BY t_ms, id',
+        )
         .all(s.id) as { uid: string; dbm_dut: number; freq_hz: number; note: string }[];
       rows.slice(1).forEach((row, i) => {
         assert.equal(row.length, head.length);
