@@ -1,7 +1,8 @@
 // Runs in Node. A session's level record decimated for a chart (app/decimate.ts explains why min/max). A whole
 // 24-hour session is two million readings; scanning them for every redraw takes seconds. So each session asked
 // for keeps a fine min/max grid in memory (at most FINE_CAP cells, its cell width doubling as the session grows,
-// about 1.5 MB), built by one SQL pass and then brought up to date with just the readings stored since. A
+// about 1.5 MB), built by one SQL pass (over the readings of a short session, over the 1024 ms cells the
+// database keeps of a long one) and then brought up to date with just the readings stored since. A
 // chart's buckets are whole numbers of grid cells, so their counts, minima and maxima are exact. A window too
 // narrow for the grid is read straight from the table (few rows: fast).
 import type { PointRole } from '../../app/api';

@@ -9,6 +9,8 @@ import { Service } from '../../main/service';
 import { createSource } from '../../main/sources';
 import { Store } from '../../main/store/store';
 import { tempDir } from '../helpers/tmp';
+import Database from 'better-sqlite3';
+import { connectionOf } from '../../main/store/connection';
 
 const HOURS = Number(process.env.LONGRUN_HOURS ?? 24);
 const MB = 1024 * 1024;
@@ -117,6 +119,42 @@ async function main(): Promise<void> {
   const everyBytes = JSON.stringify(every).length;
   const everyHeap = process.memoryUsage().heapUsed - heapBefore;
 
+  // The same readings in schema 5's layout (text UUIDs, the session's id in every row and its index), in a
+  // database of their own: its size and its first overview, measured here beside today's.
+  const legacyFile = join(tmp.dir, 'schema5.db');
+  const conn = connectionOf(store);
+  conn.exec(`ATTACH DATABASE '${legacyFile}' AS old`);
+  conn.exec(`CREATE TABLE old.readings (
+    id INTEGER PRIMARY KEY, uid TEXT NOT NULL UNIQUE, session_id TEXT NOT NULL, t_ms REAL NOT NULL,
+    freq_hz REAL NOT NULL, role TEXT NOT NULL, raw REAL NOT NULL, dbm_rx REAL NOT NULL, dbm_dut REAL NOT NULL,
+    u_db REAL NOT NULL, settled INTEGER NOT NULL, kept INTEGER NOT NULL DEFAULT 0,
+    floor_limited INTEGER NOT NULL DEFAULT 0, overload INTEGER NOT NULL DEFAULT 0, trims_json TEXT NOT NULL,
+    correction_id INTEGER NOT NULL, note TEXT NOT NULL DEFAULT '')`);
+  conn.exec('CREATE INDEX old.readings_session ON readings(session_id, t_ms)');
+  conn.exec('CREATE INDEX old.readings_kept ON readings(session_id, kept) WHERE kept = 1');
+  // Random UUIDs, as schema 5's store made them (today's are kept as 16 bytes and carry no index).
+  conn.exec(`INSERT INTO old.readings SELECT id, lower(hex(randomblob(4)) || '-' || hex(randomblob(2)) || '-4' ||
+      substr(hex(randomblob(2)), 2) || '-a' || substr(hex(randomblob(2)), 2) || '-' || hex(randomblob(6))),
+      session_id, t_ms, freq_hz, role, raw, dbm_rx, dbm_dut, u_db, settled, kept, floor_limited, overload,
+      trims_json, correction_id, note FROM main.readings_wide ORDER BY id`);
+  conn.exec('DETACH DATABASE old');
+  const legacy = new Database(legacyFile);
+  const tl = performance.now();
+  const span = legacy
+    .prepare('SELECT MIN(t_ms) AS lo, MAX(t_ms) AS hi FROM readings WHERE session_id = ?')
+    .get(s.id) as { lo: number; hi: number };
+  const w = 2 ** Math.max(0, Math.ceil(Math.log2((span.hi - span.lo + 1) / 65536)));
+  legacy
+    .prepare(
+      `SELECT CAST((t_ms - ?) / ? AS INTEGER) AS i, COUNT(*), MIN(dbm_dut), MAX(dbm_dut), SUM(floor_limited)
+       FROM readings WHERE session_id = ? GROUP BY i`,
+    )
+    .raw(true)
+    .all(span.lo, w, s.id);
+  const legacyFirstMs = performance.now() - tl;
+  legacy.close();
+  const legacyBytes = statSync(legacyFile).size;
+
   await service.close();
   store.close(); // checkpoints the WAL into the database file
   const dbBytes = statSync(file).size;
@@ -137,7 +175,15 @@ async function main(): Promise<void> {
   );
   console.log(
     `database size            ${(dbBytes / MB).toFixed(1)} MB, ${(((dbBytes / stored) * 1e6) / MB).toFixed(0)} MB per million readings ` +
-      `(${(dbBytes / stored).toFixed(0)} bytes per reading, with its index and the uid that keeps bundles mergeable)`,
+      `(${(dbBytes / stored).toFixed(0)} bytes per reading, with its indexes, cells and the uid that keeps bundles mergeable)`,
+  );
+  const perNew = dbBytes / stored;
+  const perOld = legacyBytes / stored;
+  console.log(
+    `schema 5's layout        ${(legacyBytes / MB).toFixed(1)} MB, ${perOld.toFixed(0)} bytes per reading (the same readings, measured in this run)`,
+  );
+  console.log(
+    `  ratio                  ${(perOld / perNew).toFixed(1)}x smaller; target ≤ 120 bytes per reading: ${perNew <= 120 ? 'met' : 'NOT met'}`,
   );
   console.log('whole-session chart data, side by side:');
   console.log(
@@ -146,6 +192,10 @@ async function main(): Promise<void> {
   console.log(
     `  series (1000 buckets)  ${seriesMs.toFixed(1).padStart(6)} ms, ${(seriesBytes / 1024).toFixed(0).padStart(7)} KB, ` +
       `${series.buckets.length} buckets, min ${Math.min(...series.buckets.map((b) => b.min)).toFixed(1)} dBm kept`,
+  );
+  console.log(
+    `  first call, schema 5   ${legacyFirstMs.toFixed(0).padStart(6)} ms (one pass over every reading, as before cells were kept); ` +
+      `target under 500 ms for the first overview: ${firstMs < 500 ? 'met' : 'NOT met'} (${(legacyFirstMs / firstMs).toFixed(1)}x faster)`,
   );
   console.log(
     `  series, bench hour 2   ${hourMs.toFixed(1).padStart(6)} ms, ${hour.total} readings in ${hour.buckets.length} buckets`,
