@@ -50,7 +50,7 @@ export interface LiveOptions {
    * deep null steady while it reads dB high (see SettleDetector.minSpanMs).
    */
   settleSpanMs?: number;
-  /** Pause between readings, ms (on the source's clock). */
+  /** From the start of one reading to the start of the next, ms (on the source's clock); a slower answer starts the next at once. */
   intervalMs?: number;
   /** Where the trimmers stand when the bench starts (the last stored positions of the session). */
   initialTrims?: TrimPositions;
@@ -228,6 +228,7 @@ export class LiveBench extends EventEmitter<LiveEvents> {
   private async loop(): Promise<void> {
     let gapId: number | null = null;
     while (this.running) {
+      const started = this.source.now();
       try {
         const s = await this.source.read();
         if (!this.running) break;
@@ -275,7 +276,10 @@ export class LiveBench extends EventEmitter<LiveEvents> {
           w.resolve(live);
           return false;
         });
-        if (this.opts.intervalMs > 0) await this.source.sleep(this.opts.intervalMs);
+        // Start to start: the receiver's answer time is part of the interval, not added to it (a level change
+        // then waits at most one interval for the next question).
+        const rest = this.opts.intervalMs - (this.source.now() - started);
+        if (rest > 0) await this.source.sleep(rest);
         // A source on a virtual clock answers at once: let timers and I/O run between readings.
         await new Promise((r) => setImmediate(r));
       } catch (e) {
