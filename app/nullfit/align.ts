@@ -48,6 +48,8 @@ export interface AlignOptions {
   floorDbm?: number | null;
   /** Repeatability of one reading, dB > 0: the guide's stop threshold. Default 0.3. */
   uDb?: number;
+  /** The step the meter's reading moves in near the null, dB, when known (one trimmer: see Guide1DOptions). */
+  meterStepDb?: number;
 }
 
 /** A point of a fitted curve: the predicted reading and its prediction band, dBm (band ends null when open). */
@@ -402,7 +404,7 @@ export function guideSession(
     const t = nextTrial1D(
       sel.used.map((r) => ({ position: r.trims[d.key], dbm: r.dbmDut, censored: censored(r) })),
       [d.min, d.max],
-      { ...opts, resolution: sel.resolution[d.key] },
+      { ...opts, resolution: sel.resolution[d.key], meterStepDb: o.meterStepDb },
     );
     next = { [d.key]: t.position };
     trial = t;

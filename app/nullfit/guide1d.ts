@@ -20,7 +20,16 @@ import { checkNumber, dbmToMw } from './readings';
 export interface Guide1DOptions extends GuideOptions {
   /** Smallest settable step of the trimmer, position units > 0; default 1/1000 of the range. */
   resolution?: number;
+  /**
+   * The step the meter's reading moves in near the null, dB. From 3 dB up (a meter read in S-units) the
+   * guide brackets the null instead of fitting its depth: it finds where the reading leaves the lowest step
+   * on each side and sets the middle (the null is symmetric in the trimmer's travel, see fit1d).
+   */
+  meterStepDb?: number;
 }
+
+/** From this meter step up, dB, the guide brackets (a fit of levels read in such steps cannot place the null). */
+export const BRACKET_STEP_DB = 3;
 
 export interface Trial1D {
   /** Next position to set, in the position unit (rounded to the resolution). */
@@ -120,6 +129,10 @@ export function nextTrial1D(
       ? at(target, 'done', true, `stop: ${beyond}; leave the trimmer at the end stop ${where}`)
       : at(target, 'confirm', false, `set ${where}: ${beyond}, so the end stop is as deep as it goes`);
   }
+  if ((opts.meterStepDb ?? 0) >= BRACKET_STEP_DB) {
+    const t = bracket(readings, positions, fit, round, resolution, lo, hi, opts.meterStepDb!);
+    return at(t.position, t.mode, t.mode === 'done', t.reason);
+  }
   if (lossDb < uDb) {
     if (gainAtTarget < uDb) {
       return at(
@@ -167,6 +180,71 @@ export function nextTrial1D(
     false,
     `probe ${fixed(bestX, resolution)}: the null (${where} ± ${fixed(sd, resolution)}) is not yet known well enough (it would cost ${db(lossDb)} of depth); a reading here narrows it most`,
   );
+}
+
+/**
+ * The null on a coarse meter: the readings at the lowest step seen span [xl, xr]; the nearest readings above it
+ * on either side bound where the meter steps up. Each side's edge is pinned down to the trimmer's resolution,
+ * probing first where the fit expects the step (regula falsi), else halfway; then the middle of the two edges
+ * is the null, by the symmetry of |residual|² in the trimmer's position. A lower step found on the way starts
+ * it again from there.
+ */
+function bracket(
+  readings: readonly Reading1D[],
+  positions: number[],
+  fit: NullFit1D,
+  round: (x: number) => number,
+  resolution: number,
+  lo: number,
+  hi: number,
+  stepDb: number,
+): { position: number; mode: TrialMode; reason: string } {
+  const levels = readings.map((r) => r.dbm);
+  const low = Math.min(...levels);
+  const atLow = positions.filter((_, i) => levels[i] <= low + 1e-9);
+  const xl = Math.min(...atLow);
+  const xr = Math.max(...atLow);
+  const above = positions.filter((_, i) => levels[i] > low + 1e-9);
+  const outerL = Math.max(-Infinity, ...above.filter((x) => x < xl));
+  const outerR = Math.min(Infinity, ...above.filter((x) => x > xr));
+  const tried = (x: number) => positions.some((p) => Math.abs(p - x) <= resolution / 2);
+  // Where the fit puts the step up on each side: the level one step above the lowest.
+  const width = Math.sqrt(Math.max(0, dbmToMw(low + stepDb) - dbmToMw(fit.cDbm))) / Math.max(fit.a, 1e-300);
+  const sides = [
+    { name: 'below', inner: xl, outer: outerL, guess: fit.x0 - width, end: lo },
+    { name: 'above', inner: xr, outer: outerR, guess: fit.x0 + width, end: hi },
+  ];
+  // The wider open side first.
+  sides.sort(
+    (a, b) =>
+      Math.abs(b.inner - (Number.isFinite(b.outer) ? b.outer : b.end)) -
+      Math.abs(a.inner - (Number.isFinite(a.outer) ? a.outer : a.end)),
+  );
+  for (const sd of sides) {
+    const outer = Number.isFinite(sd.outer) ? sd.outer : sd.end;
+    if (Math.abs(outer - sd.inner) <= 1.5 * resolution) continue;
+    const between = (x: number) => (x - sd.inner) * (x - outer) < 0 && !tried(x);
+    let x = round(sd.guess);
+    if (!between(x)) x = round((sd.inner + outer) / 2);
+    if (!between(x)) continue;
+    return {
+      position: x,
+      mode: 'probe',
+      reason: `probe ${fixed(x, resolution)}: where the meter steps up from its lowest reading (${dbm(low)}) ${sd.name} the null is not yet found to the trimmer's step`,
+    };
+  }
+  const mid = round((xl + xr) / 2);
+  return tried(mid)
+    ? {
+        position: mid,
+        mode: 'done',
+        reason: `stop: ${fixed(mid, resolution)} lies halfway between where the meter steps up on either side; leave the trimmer there`,
+      }
+    : {
+        position: mid,
+        mode: 'confirm',
+        reason: `set ${fixed(mid, resolution)}: halfway between where the meter steps up from its lowest reading (${dbm(low)}) on either side`,
+      };
 }
 
 function survey(positions: number[], lo: number, span: number, resolution: number, n: number): Trial1D {

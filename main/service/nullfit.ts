@@ -39,6 +39,7 @@ export class NullfitCalls {
         floorDbm,
         // Unless the caller says otherwise, the meter's own step sets how far one reading can be trusted.
         uDb: a.uDb ?? meterUDb(open?.source.meterStepDb),
+        meterStepDb: open?.source.meterStepDb,
       };
       return { trims: session.trims, kept, opts };
     };

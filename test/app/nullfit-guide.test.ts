@@ -93,6 +93,39 @@ describe('nextTrial1D()', () => {
     assert.ok(lo < t.predictedDbm! && t.predictedDbm! < hi, 'prediction inside its band');
   });
 
+  it('on a meter read in S-units, brackets where the reading steps up on each side and sets the middle (20 benches)', () => {
+    // The meter shows the S-unit reached (6 dB steps, IARU Region 1 R.1): readings carry no depth, only which
+    // side of a step the level lies. The null is symmetric in the trimmer's travel (fit1d's model), so the
+    // middle of the two step-up points is the null.
+    const sUnit = (dbm: number) => Math.floor((dbm + 73) / 6) * 6 - 73;
+    const toNull: number[] = [];
+    for (let i = 0; i < 20; i++) {
+      const bench = randomBench1D(2000 + i);
+      const deepest = reading1D(bench, bench.x0);
+      const readings: Reading1D[] = [];
+      let reached = Infinity;
+      let stopped: { position: number } | null = null;
+      for (let k = 0; k < 60 && !stopped; k++) {
+        const t = nextTrial1D(readings, [0, 10], { uDb: 1.73, resolution: 0.0005, meterStepDb: 6 });
+        assert.ok(
+          !readings.some((r) => Math.abs(r.position - t.position) < 0.00025) || t.mode !== 'probe',
+          `probed ${t.position} twice`,
+        );
+        if (t.stop) stopped = t;
+        else readings.push({ position: t.position, dbm: sUnit(reading1D(bench, t.position)) });
+        if (reached === Infinity && reading1D(bench, t.position) < deepest + 1) reached = k + 1;
+      }
+      assert.ok(stopped, `bench ${i}: no stop in 60 readings`);
+      assert.ok(
+        reading1D(bench, stopped.position) < deepest + 1,
+        `bench ${i}: stopped at ${stopped.position}, null at ${bench.x0}`,
+      );
+      toNull.push(reached);
+    }
+    // Noise-free steps: the same count every run (23 at the median with this 0.0005-turn resolution).
+    assert.ok(median(toNull) <= 25, `median ${median(toNull)} readings to the null: ${toNull.join(' ')}`);
+  });
+
   it('finds the end stop when the null lies beyond the travel', () => {
     // Balance would need −1.5 turns: the best the trimmer can do is its end at 0.
     const bench: Bench1D = { a: 0.02, x0: -1.5, cDbm: -80, floorDbm: -95 };

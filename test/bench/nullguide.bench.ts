@@ -139,7 +139,11 @@ function guided1D(board: Board, b: number): Run {
   let last: number | null = null;
   return follow(board, 'A', (dbm) => {
     if (dbm !== null && last !== null) readings.push({ position: last, dbm });
-    const t = nextTrial1D(readings, TRAVEL, { uDb: board.uDb, resolution: RESOLUTION });
+    const t = nextTrial1D(readings, TRAVEL, {
+      uDb: board.uDb,
+      resolution: RESOLUTION,
+      meterStepDb: board.bench.rx.stepDb,
+    });
     last = t.position;
     // After "stop" the builder keeps reading at the suggested setting (the drift may move the null).
     return { A: t.position, B: b };
@@ -300,18 +304,22 @@ function main(): void {
   );
   let ok = true;
   const summary: string[] = [];
-  for (const cond of CONDITIONS) {
+  // NULLGUIDE_ONLY=S-unit runs the conditions whose name contains it; NULLGUIDE_GUIDED=1 skips the sweeps
+  // (for working on the guide: no ratios then).
+  const only = process.env.NULLGUIDE_ONLY;
+  const guidedOnly = process.env.NULLGUIDE_GUIDED === '1';
+  for (const cond of CONDITIONS.filter((c) => !only || c.name.includes(only))) {
     const board = (s: number) => new Board(s, cond);
     const one: Row[] = [
       { name: 'guided (nextTrial1D)', runs: seeds.map((s) => guided1D(board(s), bFor(s)).toNull) },
-      ...sweeps.map(([c, f]) => ({
+      ...(guidedOnly ? [] : sweeps).map(([c, f]) => ({
         name: `fixed steps: ${c} across, then ${f}x finer each pass`,
         runs: seeds.map((s) => sweep1D(board(s), bFor(s), c, f).toNull),
       })),
     ];
     const two: Row[] = [
       { name: 'guided (nextTrial2D)', runs: seeds.map((s) => guided2D(board(s)).toNull) },
-      ...sweeps.flatMap(([c, f]) =>
+      ...(guidedOnly ? [] : sweeps).flatMap(([c, f]) =>
         [false, true].map((narrow) => ({
           name: `A, B in turn: ${c} across, ${f}x finer${narrow ? ', then narrow' : ''}`,
           runs: seeds.map((s) => sweep2D(board(s), c, f, narrow).toNull),
