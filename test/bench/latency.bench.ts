@@ -14,6 +14,7 @@ import type { Page } from 'playwright-core';
 import { Service } from '../../main/service';
 import { createSource } from '../../main/sources';
 import type { LevelSource } from '../../main/sources/types';
+import type { LiveReading, SpectrumFrame } from '../../app/api';
 import type { SimSource } from '../../main/sources/sim';
 import { RigServer } from '../../main/sim/rigserver';
 import { Store } from '../../main/store/store';
@@ -33,8 +34,15 @@ interface Case {
   spec: string;
   /** Makes the level loud (true) or quiet (false) at the source; returns when it has. */
   set(loud: boolean): void;
-  /** True when a corrected level (dBm at the transmitter) is the loud one. */
-  isLoud(dbm: number): boolean;
+  /** The figure watched: on the page, and in the service's event ('reading': stored; 'spectrum': a frame). */
+  selector: string;
+  event: 'reading' | 'spectrum';
+  value(ev: unknown): number | null;
+  /** The loud state reads above (or below) this. */
+  threshold: number;
+  loudAbove: boolean;
+  /** What the user does on the page before the figure shows (start the spectrum). */
+  prepare?(page: Page): Promise<void>;
   stop(): Promise<void>;
 }
 
@@ -65,24 +73,28 @@ async function measure(
   c.set(false);
   const times: number[] = [];
   let waiting: { loud: boolean; done: (t: number) => void } | null = null;
-  const off = service.listen('reading', (r) => {
+  const isLoud = (v: number) => (c.loudAbove ? v > c.threshold : v < c.threshold);
+  const off = service.listen(c.event, (ev: unknown) => {
     const t = nowMs();
     times.push(t);
-    if (waiting && c.isLoud(r.dbmDut) === waiting.loud) {
+    const v = c.value(ev);
+    if (waiting && v !== null && isLoud(v) === waiting.loud) {
       waiting.done(t);
       waiting = null;
     }
   });
   await page.goto(url);
   await page.locator('#level-dut').waitFor();
-  await page.evaluate(() => {
-    const el = document.querySelector('#level-dut')!;
+  await c.prepare?.(page);
+  await page.locator(c.selector).waitFor();
+  await page.evaluate((selector) => {
+    const el = document.querySelector(selector)!;
     const w = window as unknown as { changes: { t: number; text: string }[] };
     w.changes = [];
     new MutationObserver(() =>
       w.changes.push({ t: performance.timeOrigin + performance.now(), text: el.textContent ?? '' }),
     ).observe(el, { childList: true, characterData: true, subtree: true });
-  });
+  }, c.selector);
   const stored: number[] = [];
   const drawn: number[] = [];
   let loud = false;
@@ -95,17 +107,18 @@ async function measure(
     c.set(loud);
     const ts = await storedAt;
     stored.push(ts - t0);
-    const want = loud;
     const td = await page.waitForFunction(
-      ({ t0, want }) => {
+      ({ t0, above, threshold }) => {
         const w = window as unknown as { changes: { t: number; text: string }[] };
         const hit = w.changes.find((x) => {
-          const v = Number(x.text.replace('\u2212', '-').replace(/[^0-9.+-]/g, ''));
-          return x.t >= t0 && Number.isFinite(v) && (want ? v > -20 : v < -20);
+          // The first number of the figure ("−40.0 dBm", "≥ 38.2 dB ± 0.5").
+          const m = /[-\u2212]?\d+(\.\d+)?/.exec(x.text);
+          const v = m ? Number(m[0].replace('\u2212', '-')) : NaN;
+          return x.t >= t0 && Number.isFinite(v) && (above ? v > threshold : v < threshold);
         });
         return hit ? hit.t : null;
       },
-      { t0, want },
+      { t0, above: loud === c.loudAbove, threshold: c.threshold },
       { polling: 10 },
     );
     drawn.push(((await td.jsonValue()) as number) - t0);
@@ -136,18 +149,26 @@ async function main(): Promise<void> {
   // The loud state: the modulator unbalanced (carrier near a sideband, about +20 dBm at the transmitter);
   // quiet: balanced (about -40 dBm). The split at -20 dBm is far from both.
   const rig = new RigServer({ script: [-40], latencyMs: 20 });
+  const simStep = (loud: boolean) => {
+    const tx = (current as SimSource).bench.tx;
+    const b = tx.trueBalance();
+    tx.setTrims({ A: b.A, B: b.B });
+    tx.setUnbalanced(loud);
+  };
+  const level = {
+    selector: '#level-dut',
+    event: 'reading' as const,
+    value: (r: unknown) => (r as LiveReading).dbmDut,
+    threshold: -20,
+    loudAbove: true,
+  };
   await rig.listen(0);
   const cases: Case[] = [
     {
       name: 'simulated bench, instant meter',
       spec: 'sim:seed=3,decay=1',
-      set: (loud) => {
-        const tx = (current as SimSource).bench.tx;
-        const b = tx.trueBalance();
-        tx.setTrims({ A: b.A, B: b.B });
-        tx.setUnbalanced(loud);
-      },
-      isLoud: (dbm) => dbm > -20,
+      set: simStep,
+      ...level,
       stop: async () => undefined,
     },
     {
@@ -156,8 +177,28 @@ async function main(): Promise<void> {
       // STRENGTH in dB re S9: +23 and -37 are +20 and -40 dBm at the transmitter through the 50 dB pad
       // (S9 = -73 dBm, IARU Region 1 R.1).
       set: (loud) => rig.setScript([loud ? 23 : -37]),
-      isLoud: (dbm) => dbm > -20,
+      ...level,
       stop: () => rig.close(),
+    },
+    {
+      name: 'SDR sample server (the simulated board, 256 kS/s)',
+      spec: 'sim:seed=3,decay=1',
+      set: simStep,
+      // Carrier suppression on the spectrum panel: a few dB unbalanced, some 60 dB balanced.
+      selector: '#spectrum-suppression',
+      event: 'spectrum',
+      value: (f) => (f as SpectrumFrame).suppression?.db ?? null,
+      threshold: 20,
+      loudAbove: false,
+      prepare: async (page) => {
+        await page.click('#spectrum-start');
+        await page.waitForFunction(
+          () => document.querySelector('#spectrum-suppression')?.textContent !== '—',
+        );
+      },
+      stop: async () => {
+        await service.invoke('spectrumStop', {}).catch(() => undefined);
+      },
     },
   ];
   const rows: string[] = [];
@@ -179,7 +220,10 @@ async function main(): Promise<void> {
     );
     await c.stop();
   }
-  console.log(`Level step at the source to the figure (${STEPS} steps per source), ms:`);
+  console.log(
+    `Level step at the source to the figure (${STEPS} steps per source), ms; "stored" is when the reading was ` +
+      'committed (for the SDR, when its spectrum frame left the service: frames are stored only when kept):',
+  );
   console.log(
     `  ${'source'.padEnd(50)} ${'poll'.padStart(6)} ${'stored'.padStart(7)} ${'p95'.padStart(7)} ${'drawn'.padStart(7)} ${'p95'.padStart(7)} ${'screen95'.padStart(8)}   target (poll + ${FRAME_MS} ms)`,
   );
