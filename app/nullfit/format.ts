@@ -90,7 +90,9 @@ export function handMove(x: number, unit: string): string {
           ? `${n} turn${whole === 1 ? '' : 's'}`
           : `${n} and ${PARTS[part]} turns`;
   }
-  return `${how} ${way}`;
+  // "about" when the eighths round the move by more than a degree.
+  const approx = a >= 1 / 16 && Math.abs(a - eighths / 8) * 360 > 1;
+  return `${approx ? 'about ' : ''}${how} ${way}`;
 }
 
 /** A signed move with the hand's version beside it when there is one: "+0.250 turns (a quarter turn clockwise)". */

@@ -207,5 +207,11 @@ describe('handMove()', () => {
     // Units that are not an angle get no hand version.
     assert.equal(handMove(2, 'mm'), '');
     assert.equal(moveText(0.25, 0.005, 'turns'), '+0.250 turns (a quarter turn clockwise)');
+    // Rounded to an eighth by more than a degree: said to be about that.
+    assert.equal(
+      handMove(-0.19, 'turns'),
+      'about a quarter turn anticlockwise, a little past, then back clockwise',
+    );
+    assert.equal(handMove(3.295, 'turns'), 'about 3 and a quarter turns clockwise');
   });
 });
