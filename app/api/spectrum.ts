@@ -73,7 +73,7 @@ export interface SpectrumRatio {
   uDb: number | null;
 }
 
-/** One update of the live spectrum (the `spectrum` event), a few times a second. */
+/** One update of the live spectrum (the `spectrum` event), after every FFT frame: the last `averages` frames. */
 export interface SpectrumFrame {
   sessionId: string;
   source: string;

@@ -1,9 +1,10 @@
-// Runs in Node. The live spectrum: an SDR sample stream around the open session's carrier, averaged,
-// measured (carrier, tones, products, floor) and thinned to a trace a few times a second, here on the main
-// side so the page needs neither WebAssembly nor a looser content policy. `iqsim` starts our own SDR sample
+// Runs in Node. The live spectrum: an SDR sample stream around the open session's carrier, averaged over
+// its last frames, measured (carrier, tones, products, floor) and thinned to a trace after every frame, here
+// on the main side so the page needs neither WebAssembly nor a looser content policy. `iqsim` starts our own SDR sample
 // server fed by the simulated bench's transmitter, so the trimmers turned in the app move its carrier.
 import { analysePath, rxToDut, validatePath } from '../../app/path';
 import { BenchError, check } from '../../app/errors';
+import { SlidingSpectrum } from '../../app/spectrum/sliding';
 import type { ParsedArgs, Session } from '../../app/api';
 import type { SpectrumCallResults, SpectrumComponent, SpectrumFrame } from '../../app/api/spectrum';
 import {
@@ -184,20 +185,29 @@ export class SpectrumStream {
     try {
       // Samples already in flight belong to the old tuning.
       await client.discard(n);
+      // A moving average of the last `averages` frames, a new picture after each frame; a step in the
+      // carrier's power starts it afresh (app/spectrum/sliding.ts). The carrier is looked for within a
+      // quarter tone of where it should be.
+      const slide = new SlidingSpectrum(avg.window, c.averages);
+      const k0 = Math.round((c.offsetHz / fs) * n);
+      const half = Math.max(2, Math.round((tone / 4 / fs) * n));
+      const clips: number[] = [];
       while (!this.stopping) {
-        // Behind by more than one update: drop whole frames so the picture stays live.
+        // Behind by more than one frame: drop whole frames so the picture stays live.
         const frameBytes = 2 * n;
-        const behind = Math.floor(client.pendingBytes / frameBytes) - c.averages;
+        const behind = Math.floor(client.pendingBytes / frameBytes) - 1;
         if (behind > 0) await client.discard(behind * n);
-        avg.reset();
+        const b = await client.readBlock(n);
         let clipped = 0;
-        for (let k = 0; k < c.averages; k++) {
-          const b = await client.readBlock(n);
-          for (let i = 0; i < b.length; i++) if (b[i] === 0 || b[i] === 255) clipped++;
-          avg.pushU8(b, 0, client.zero);
-        }
+        for (let i = 0; i < b.length; i++) if (b[i] === 0 || b[i] === 255) clipped++;
+        avg.reset();
+        avg.pushU8(b, 0, client.zero);
         if (this.stopping) break;
-        const spectrum = avg.spectrum();
+        if (slide.push(avg.sums(), [k0 - half, k0 + half])) clips.length = 0;
+        clips.push(clipped);
+        if (clips.length > slide.averages) clips.shift();
+        clipped = clips.reduce((x, y) => x + y, 0);
+        const spectrum = slide.spectrum();
         const m = measureSpectrum(spectrum, { sampleRate: fs, carrierHz: c.offsetHz, toneHz: tone });
         const trace = traceSpectrum(
           spectrum,
@@ -238,7 +248,7 @@ export class SpectrumStream {
           noiseFloorDbfs: m.noiseFloorDbfs,
           suppression: m.suppression,
           imd3: m.imd3 ? { db: m.imd3.db, floorLimited: m.imd3.floorLimited, uDb: m.imd3.uDb } : null,
-          overload: clipped > CLIP_SHARE * 2 * n * c.averages,
+          overload: clipped > CLIP_SHARE * 2 * n * slide.averages,
           calibration: cal,
         };
         this.latest = frame;
