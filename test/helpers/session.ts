@@ -10,7 +10,13 @@ export const TRIMS = [
 ];
 
 export async function serviceWithSession(
-  opts: { fast?: boolean; path?: unknown[]; txPepDbm?: number; source?: string } = {},
+  opts: {
+    fast?: boolean;
+    path?: unknown[];
+    txPepDbm?: number;
+    source?: string;
+    live?: import('../../main/live/live').LiveOptions;
+  } = {},
 ) {
   const db = tempDb();
   const store = new Store(db.file);
@@ -18,6 +24,7 @@ export async function serviceWithSession(
   const service = new Service({
     store,
     mode: 'cli',
+    live: opts.live,
     createSource: (spec) =>
       createSource(fast && spec.startsWith('sim') ? `${spec}${spec.includes(':') ? ',' : ':'}fast` : spec),
   });
