@@ -10,7 +10,7 @@ import { BenchError } from '../../app/errors';
 
 describe('simulated meters', () => {
   it('reads in S-units: 6 dB steps below S9, 10 dB above', () => {
-    // docs/references.md § S-units: one S-unit is 6 dB (IARU Region 1 R.1); 10 dB steps above S9 are common
+    // docs/references.md § S-meter scale: one S-unit is 6 dB (IARU Region 1 R.1); 10 dB steps above S9 are common
     // practice. The meter shows the unit the level has reached: S8 from −6 dB re S9 up to S9.
     const s = { meterScale: 's-units' as const, quantDb: 1 };
     assert.equal(meterStep(-0.1, s), -6);
@@ -59,7 +59,7 @@ describe('simulated meters', () => {
   });
 
   it("gives the guide the meter's step as a uniform uncertainty, never below its default", () => {
-    // GUM 4.3.7: a value known to lie within a step s has standard uncertainty s/√12 (docs/references.md).
+    // GUM 4.3.7: a value known to lie within a step s has standard uncertainty s/√12 (docs/references.md § Uncertainty).
     assert.ok(Math.abs(meterUDb(6) - 1.732) < 1e-3);
     assert.equal(meterUDb(1), 0.3);
     assert.equal(meterUDb(0.1), 0.3);
