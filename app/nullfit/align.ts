@@ -48,7 +48,7 @@ export interface AlignOptions {
   floorDbm?: number | null;
   /** Repeatability of one reading, dB > 0: the guide's stop threshold. Default 0.3. */
   uDb?: number;
-  /** The step the meter's reading moves in near the null, dB, when known (one trimmer: see Guide1DOptions). */
+  /** The step the meter's reading moves in near the null, dB, when known (see Guide1DOptions, Guide2DOptions). */
   meterStepDb?: number;
 }
 
@@ -418,6 +418,7 @@ export function guideSession(
         ...opts,
         resolution: { a: sel.resolution[da.key], b: sel.resolution[db.key] },
         names: { a: da.key, b: db.key },
+        meterStepDb: o.meterStepDb,
       },
     );
     next = { [da.key]: t.a, [db.key]: t.b };

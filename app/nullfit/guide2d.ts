@@ -16,6 +16,7 @@ import {
 } from './guide';
 import { symEigen, type Mat } from './linalg';
 import { checkNumber, dbmToMw } from './readings';
+import { BRACKET_STEP_DB, nextTrial1D } from './guide1d';
 
 export interface Bounds2D {
   /** Travel of trimmer A, [min, max] in its unit. */
@@ -28,6 +29,11 @@ export interface Guide2DOptions extends GuideOptions {
   resolution?: { a: number; b: number };
   /** What the reason text calls the two trimmers; default "A" and "B". */
   names?: { a: string; b: string };
+  /**
+   * The step the meter's reading moves in near the null, dB. From 3 dB up (S-units) the two trimmers are
+   * bracketed in turn, each along a line with the other held (nextTrial1D's bracket), until neither moves.
+   */
+  meterStepDb?: number;
 }
 
 export interface Trial2D {
@@ -90,6 +96,8 @@ export function nextTrial2D(
     b: roundTo(clamp(b, bLo, bHi), res.b),
   });
   const names = { a: opts.names?.a ?? 'A', b: opts.names?.b ?? 'B' };
+  if ((opts.meterStepDb ?? 0) >= BRACKET_STEP_DB)
+    return inTurn(readings, { a: [aLo, aHi], b: [bLo, bHi] }, res, uDb, opts.meterStepDb!, names);
   const say = (p: { a: number; b: number }): string =>
     `${names.a} ${fixed(p.a, res.a)}, ${names.b} ${fixed(p.b, res.b)}`;
 
@@ -317,4 +325,66 @@ export function nextTrial2D(
     false,
     `probe ${say(pick)}: the null is not yet known well enough (it would cost ${db(lossDb)} of depth); a reading here narrows it most`,
   );
+}
+
+/**
+ * Two trimmers on a coarse meter: one trimmer bracketed along a line with the other held, then the other
+ * through the middle found, and so on, until a pass ends where that trimmer already stood (to 1.5 steps).
+ * Each pass is nextTrial1D's bracket on the readings of its line; the passes are replayed from the readings
+ * alone, so the guide keeps no state between calls. The first line holds B at the middle of its travel.
+ */
+function inTurn(
+  readings: readonly Reading2D[],
+  bounds: Bounds2D,
+  res: { a: number; b: number },
+  uDb: number,
+  stepDb: number,
+  names: { a: string; b: string },
+): Trial2D {
+  let axis: 'a' | 'b' = 'a';
+  const other = (k: 'a' | 'b'): 'a' | 'b' => (k === 'a' ? 'b' : 'a');
+  const held: { a: number; b: number } = {
+    a: roundTo((bounds.a[0] + bounds.a[1]) / 2, res.a),
+    b: roundTo((bounds.b[0] + bounds.b[1]) / 2, res.b),
+  };
+  const found: { a: number | null; b: number | null } = { a: null, b: null };
+  const trial = (p: { a: number; b: number }, mode: TrialMode, stop: boolean, reason: string): Trial2D => ({
+    ...p,
+    predictedDbm: null,
+    band: null,
+    expectedGainDb: null,
+    stop,
+    mode,
+    reason,
+    fit: null,
+  });
+  for (let pass = 0; pass < 40; pass++) {
+    const o = other(axis);
+    const line = readings.filter((r) => Math.abs(r[o] - held[o]) <= res[o] / 2);
+    const t = nextTrial1D(
+      line.map((r) => ({ position: r[axis], dbm: r.dbm, censored: r.censored })),
+      bounds[axis],
+      { uDb, resolution: res[axis], meterStepDb: stepDb },
+    );
+    const at = { ...held, [axis]: t.position } as { a: number; b: number };
+    if (!t.stop)
+      return trial(
+        at,
+        t.mode,
+        false,
+        `${names[axis]} with ${names[o]} held at ${fixed(held[o], res[o])}: ${t.reason}`,
+      );
+    const last = found[axis];
+    found[axis] = t.position;
+    held[axis] = t.position;
+    if (last !== null && Math.abs(t.position - last) <= 1.5 * res[axis])
+      return trial(
+        held,
+        'done',
+        true,
+        `stop: bracketing ${names[axis]} again ends where it stood (${fixed(t.position, res[axis])}); leave ${names.a} at ${fixed(held.a, res.a)} and ${names.b} at ${fixed(held.b, res.b)}`,
+      );
+    axis = o;
+  }
+  return trial(held, 'done', true, `stop: forty passes in turn; leave the trimmers at the middle found last`);
 }

@@ -184,6 +184,45 @@ function randomBench2D(seed: number): Bench2D {
   };
 }
 
+describe('nextTrial2D() on a meter read in S-units', () => {
+  it('brackets the trimmers in turn until a pass ends where the trimmer stood, within 1 dB of the null (10 benches)', () => {
+    // 6 dB steps (IARU Region 1 R.1). Directions 60–120° apart: passes in turn converge by about cos² of the
+    // angle per round, so nearly parallel trimmers take many more (the benchmark's boards span 55–90°).
+    const sUnit = (dbm: number) => Math.floor((dbm + 73) / 6) * 6 - 73;
+    const counts: number[] = [];
+    for (let i = 0; i < 10; i++) {
+      const g = rng(3000 + i);
+      const bench: Bench2D = {
+        a0: 1 + 8 * g.uniform(),
+        b0: 30 + 240 * g.uniform(),
+        gA: polar(0.02 * (0.5 + g.uniform()), 0),
+        gB: polar(0.0006 * (0.5 + g.uniform()), 60 + 60 * g.uniform()),
+        cDbm: -85 + 20 * g.uniform(),
+        floorDbm: -95,
+      };
+      const readings: Reading2D[] = [];
+      let stop: { a: number; b: number } | null = null;
+      for (let k = 0; k < 400 && !stop; k++) {
+        const t = nextTrial2D(
+          readings,
+          { a: [0, 10], b: [0, 300] },
+          { uDb: 1.73, resolution: { a: 0.0005, b: 0.05 }, meterStepDb: 6 },
+        );
+        if (t.stop) stop = t;
+        else readings.push({ a: t.a, b: t.b, dbm: sUnit(reading2D(bench, t.a, t.b)) });
+      }
+      assert.ok(stop, `bench ${i}: no stop in 400 readings`);
+      const deepest = reading2D(bench, bench.a0, bench.b0);
+      assert.ok(
+        reading2D(bench, stop.a, stop.b) < deepest + 1,
+        `bench ${i}: stopped at ${stop.a}, ${stop.b} (${reading2D(bench, stop.a, stop.b) - deepest} dB above the null)`,
+      );
+      counts.push(readings.length);
+    }
+    assert.ok(Math.max(...counts) < 400, counts.join(' '));
+  });
+});
+
 function run2D(bench: Bench2D, seed: number, maxReadings = 40): { toNull: number; toStop: number } {
   const g = rng(seed);
   const readings: Reading2D[] = [];

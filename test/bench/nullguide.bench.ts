@@ -158,7 +158,7 @@ function guided2D(board: Board): Run {
     const t = nextTrial2D(
       readings,
       { a: TRAVEL, b: TRAVEL },
-      { uDb: board.uDb, resolution: { a: RESOLUTION, b: RESOLUTION } },
+      { uDb: board.uDb, resolution: { a: RESOLUTION, b: RESOLUTION }, meterStepDb: board.bench.rx.stepDb },
     );
     last = { A: t.a, B: t.b };
     return last;
