@@ -171,14 +171,14 @@ describe('nextTrial1D()', () => {
   });
 });
 
-function randomBench2D(seed: number): Bench2D {
+function randomBench2D(seed: number, apart: [number, number] = [20, 160]): Bench2D {
   const g = rng(seed);
-  // A in turns (0–10), B in degrees (0–300); directions 20–160° apart.
+  // A in turns (0–10), B in degrees (0–300); directions apart[0]–apart[1]° apart.
   return {
     a0: 1 + 8 * g.uniform(),
     b0: 30 + 240 * g.uniform(),
     gA: polar(0.02 * (0.5 + g.uniform()), 0),
-    gB: polar(0.0006 * (0.5 + g.uniform()), 20 + 140 * g.uniform()),
+    gB: polar(0.0006 * (0.5 + g.uniform()), apart[0] + (apart[1] - apart[0]) * g.uniform()),
     cDbm: -85 + 20 * g.uniform(),
     floorDbm: -95,
   };
@@ -191,15 +191,7 @@ describe('nextTrial2D() on a meter read in S-units', () => {
     const sUnit = (dbm: number) => Math.floor((dbm + 73) / 6) * 6 - 73;
     const counts: number[] = [];
     for (let i = 0; i < 10; i++) {
-      const g = rng(3000 + i);
-      const bench: Bench2D = {
-        a0: 1 + 8 * g.uniform(),
-        b0: 30 + 240 * g.uniform(),
-        gA: polar(0.02 * (0.5 + g.uniform()), 0),
-        gB: polar(0.0006 * (0.5 + g.uniform()), 60 + 60 * g.uniform()),
-        cDbm: -85 + 20 * g.uniform(),
-        floorDbm: -95,
-      };
+      const bench = randomBench2D(3000 + i, [60, 120]);
       const readings: Reading2D[] = [];
       let stop: { a: number; b: number } | null = null;
       for (let k = 0; k < 400 && !stop; k++) {
