@@ -1,7 +1,7 @@
 // Runs in Node (pure, no I/O). The simulated receiver used as a selective level meter: a tuned filter,
 // a thermal noise floor, front-end compression, an S-meter with attack/decay, and the steps its reading moves
 // in: 1 dB (the default), 0.1 dB, or S-units (6 dB below S9, 10 dB above, as many receivers report them).
-import { powerSumDb, thermalNoiseDbm } from '../../app/levels';
+import { R1_DB_PER_S, powerSumDb, thermalNoiseDbm } from '../../app/levels';
 import type { Line } from './transmitter';
 import { Rng } from './rng';
 
@@ -124,12 +124,10 @@ export class SimReceiver {
 
   /** The smallest step the meter's reading moves in near a null (below S9), dB. */
   get stepDb(): number {
-    return this.cfg.meterScale === 's-units' ? S_UNIT_DB : this.cfg.quantDb;
+    return this.cfg.meterScale === 's-units' ? R1_DB_PER_S : this.cfg.quantDb;
   }
 }
 
-/** One S-unit below S9, dB (IARU Region 1 R.1). */
-export const S_UNIT_DB = 6;
 /** A step above S9 on the S-unit scale, dB (common practice). */
 export const OVER_S9_STEP_DB = 10;
 
@@ -137,7 +135,7 @@ export const OVER_S9_STEP_DB = 10;
 export function meterStep(db: number, c: Pick<ReceiverConfig, 'quantDb' | 'meterScale'>): number {
   if (c.meterScale === 's-units') {
     // The S-unit reached: S8 from -6 dB up to S9, S9+10 from +10 dB up to +20.
-    const step = db < 0 ? S_UNIT_DB : OVER_S9_STEP_DB;
+    const step = db < 0 ? R1_DB_PER_S : OVER_S9_STEP_DB;
     return Math.floor(db / step + 1e-9) * step;
   }
   // Rounded to the step, and to a whole number of them (0.1 dB steps read 0.3, not 0.30000000000000004).

@@ -543,27 +543,10 @@ export function importBundle(store: Store, text: string): ImportSummary {
        VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
     );
     const sessionNo = new Map<string, number>();
-    const noOf = (id: string) => {
-      let no = sessionNo.get(id);
-      if (no === undefined) {
-        no = (db.prepare('SELECT no FROM sessions WHERE id = ?').get(id) as { no: number }).no;
-        sessionNo.set(id, no);
-      }
-      return no;
-    };
-    const trimIds = new Map<string, number>();
-    const trimsOf = (json: string) => {
-      let id = trimIds.get(json);
-      if (id === undefined) {
-        db.prepare('INSERT OR IGNORE INTO trim_sets (json) VALUES (?)').run(json);
-        id = (db.prepare('SELECT id FROM trim_sets WHERE json = ?').get(json) as { id: number }).id;
-        trimIds.set(json, id);
-      }
-      return id;
-    };
     for (const [i, r] of b.readings.entries()) {
       const uid = uidToDb(r.uid);
-      const no = noOf(r.sessionId);
+      let no = sessionNo.get(r.sessionId);
+      if (no === undefined) sessionNo.set(r.sessionId, (no = store.sessionNo(r.sessionId)));
       if (hasReading.get(no, r.t, uid)) {
         sum.unchanged.readings++;
         continue;
@@ -582,7 +565,7 @@ export function importBundle(store: Store, text: string): ImportSummary {
         r.kept ? 1 : 0,
         r.floorLimited ? 1 : 0,
         r.overload ? 1 : 0,
-        trimsOf(rawJson('readings', i, 'trims')),
+        store.trimSetId(rawJson('readings', i, 'trims')),
         correctionIds.get(r.correction)!,
         r.note,
       );

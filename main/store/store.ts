@@ -417,8 +417,8 @@ export class Store implements ReadingSink {
     return row.id;
   }
 
-  /** The row of trim_sets holding one trimmer setting (stored once, as corrections are). */
-  private trimsId(json: string): number {
+  /** The row of trim_sets holding one trimmer setting, as JSON text (stored once, as corrections are). */
+  trimSetId(json: string): number {
     const cached = this.trimIds.get(json);
     if (cached !== undefined) return cached;
     this.db.prepare('INSERT OR IGNORE INTO trim_sets (json) VALUES (?)').run(json);
@@ -473,7 +473,7 @@ export class Store implements ReadingSink {
       kept: r.kept ? 1 : 0,
       floor_limited: r.floorLimited ? 1 : 0,
       overload: r.overload ? 1 : 0,
-      trims_id: this.trimsId(JSON.stringify(r.trims)),
+      trims_id: this.trimSetId(JSON.stringify(r.trims)),
       correction_id: this.correctionId(r.calibration, r.path),
       note: r.note ?? '',
     });
