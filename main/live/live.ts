@@ -96,6 +96,8 @@ export class LiveBench extends EventEmitter<LiveEvents> {
       calibration: session.receiver.calibration,
       path: session.path,
       noiseFloorDbm: source.noiseFloorDbm,
+      // The meter's own step, where the source declares it (an S-unit meter: 6 dB), in every reading's uncertainty.
+      stepDb: source.meterStepDb,
       // Within 10 dB of the rated maximum the front end is likely compressing (common practice).
       overloadDbm: session.receiver.maxInputDbm - 10,
     });

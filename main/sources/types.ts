@@ -50,7 +50,8 @@ export interface LevelSource {
   readonly noiseFloorDbm?: number;
   /**
    * The smallest step the receiver's reading moves in near a null, dB, when the source knows it (a meter read
-   * in S-units: 6). The guide takes at least step/√12 as its reading uncertainty (GUM 4.3.7, uniform).
+   * in S-units: 6). Each reading's uncertainty takes step/√12 for it (GUM 4.3.7, uniform; 1 dB when not
+   * declared), and so does the guide's.
    */
   readonly meterStepDb?: number;
   /** What read() returns, when known before the first reading (after open() for sources that ask the receiver). */

@@ -7,6 +7,7 @@ import { SimTransmitter } from '../../main/sim/transmitter';
 import { parseSimSpec, SimSource } from '../../main/sources/sim';
 import { meterUDb } from '../../app/nullfit/guide';
 import { BenchError } from '../../app/errors';
+import { serviceWithSession } from '../helpers/session';
 
 describe('simulated meters', () => {
   it('reads in S-units: 6 dB steps below S9, 10 dB above', () => {
@@ -90,5 +91,28 @@ describe('simulated trimmers', () => {
     const ideal = new SimTransmitter();
     ideal.setTrims({ A: 4.3749 });
     assert.equal(ideal.wiperPositions().A, 4.3749);
+  });
+});
+
+describe("a reading's uncertainty on the meter it was read with", () => {
+  it('carries the declared meter step as step/√12, in quadrature with the rest', async () => {
+    // GUM 4.3.7 (docs/references.md § Uncertainty): a value known only to a step s adds s/√12. The same bench
+    // read on a 1 dB meter and on an S-unit meter differs by exactly that term: √((6² − 1²)/12) = 1.708 dB.
+    const u = async (source: string) => {
+      const b = await serviceWithSession({ source });
+      try {
+        await b.service.invoke('openSession', { sessionId: b.session.id });
+        const r = await b.service.invoke('keep', { note: '', waitSettled: false });
+        return r.uDb;
+      } finally {
+        await b.cleanup();
+      }
+    };
+    const fine = await u('sim:seed=5');
+    const coarse = await u('sim:seed=5,meter=s');
+    assert.ok(
+      Math.abs(Math.sqrt(coarse ** 2 - fine ** 2) - Math.sqrt(35 / 12)) < 1e-9,
+      `${fine} → ${coarse}`,
+    );
   });
 });

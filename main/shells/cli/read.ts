@@ -115,6 +115,7 @@ A link fault is reported on stderr ("gap: ...") and never printed as a reading.`
               : calibrationFor(ownCalibration, quantity),
           path,
           noiseFloorDbm: source.noiseFloorDbm,
+          stepDb: source.meterStepDb,
         });
         if (freq !== null) await source.setFrequency(freq);
         if (!values.json)
