@@ -414,7 +414,8 @@ export function formatS(dbm: number, scale: SMeterScale): string {
 // ---------------------------------------------------------------------------------------------
 // Text
 
-const NUMBER = String.raw`[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?`;
+// A decimal point or a decimal comma (app/numbers.ts reads both): "-12,5 dBm" is -12.5 dBm.
+const NUMBER = String.raw`[+-]?(?:\d+(?:[.,]\d*)?|[.,]\d+)(?:[eE][+-]?\d+)?`;
 const LEVEL_RE = new RegExp(`^(${NUMBER})\\s*([a-zA-Z\\u00b5\\u03bc]+)$`);
 const S_RE = /^s\s*(\d+(?:\.\d+)?)(?:\s*([+-])\s*(\d+(?:\.\d+)?)\s*(?:db)?)?$/i;
 
@@ -462,5 +463,5 @@ export function parseLevel(text: string, field = 'level', scale?: SMeterScale): 
       field,
     );
   }
-  return toDbm(Number(m[1]), m[2], field);
+  return toDbm(Number(m[1].replace(',', '.')), m[2], field);
 }

@@ -17,6 +17,7 @@ import { analysePath, validatePath } from '../../app/path';
 import { clear, h } from '../dom';
 import { dbm } from '../format';
 import { PlanChart } from './planchart';
+import { numberInput, readNumber } from '../numinput';
 
 type Notify = (level: 'info' | 'warn' | 'error', msg: string) => void;
 
@@ -47,15 +48,8 @@ export class PlanPanel {
         h('label', { class: 'check', title: `${(hz / 1e6).toFixed(6)} MHz` }, box, ` ${ROLE_LABELS[role]}`),
       );
     }
-    const average = h('input', { id: 'plan-average', type: 'number', min: 1, max: 200, value: 5 });
-    const settle = h('input', {
-      id: 'plan-settle',
-      type: 'number',
-      min: 0,
-      max: 60000,
-      step: 100,
-      value: 1500,
-    });
+    const average = numberInput({ id: 'plan-average', value: 5 }, true);
+    const settle = numberInput({ id: 'plan-settle', value: 1500 }, true);
     const reference = h(
       'select',
       { id: 'plan-reference', onchange: () => this.render() },
@@ -270,8 +264,17 @@ export class PlanPanel {
     const points = POINT_ROLES.filter((r) => this.boxes.get(r)?.checked);
     return {
       points,
-      average: Number((this.els.average as HTMLInputElement).value),
-      settleMs: Number((this.els.settle as HTMLInputElement).value),
+      average: readNumber(this.els.average as HTMLInputElement, 'Readings per point', {
+        integer: true,
+        min: 1,
+        max: 200,
+      }),
+      settleMs: readNumber(this.els.settle as HTMLInputElement, 'Settle (ms)', {
+        integer: true,
+        min: 0,
+        max: 60000,
+        unit: 'ms',
+      }),
       reference: (this.els.reference as HTMLSelectElement).value,
     };
   }

@@ -7,6 +7,8 @@ import { escapeControls, unescapeControls, type SerialTemplate } from '../../app
 import { ApiError } from '../api';
 import { clear, h } from '../dom';
 import { dbm } from '../format';
+import { readNumber } from '../numinput';
+import { openModal } from '../dialog';
 
 type Notify = (level: 'info' | 'warn' | 'error', msg: string) => void;
 
@@ -15,10 +17,7 @@ function field(label: string, input: HTMLElement, cls = ''): HTMLLabelElement {
 }
 
 function num(el: HTMLInputElement, what: string): number {
-  const v = Number(el.value.replace(',', '.'));
-  if (el.value.trim() === '' || !Number.isFinite(v))
-    throw new ApiError('EINVAL', `${what}: "${el.value}" is not a number`);
-  return v;
+  return readNumber(el, what);
 }
 
 /** An error with the field it names, as the service reports it. */
@@ -27,21 +26,16 @@ function say(el: HTMLElement, e: unknown): void {
 }
 
 export async function showReceiversDialog(api: ServiceClient, notify: Notify): Promise<void> {
-  const overlay = h('div', {
-    class: 'overlay',
-    id: 'receivers-dialog',
-    role: 'dialog',
-    'aria-modal': 'true',
-  });
+  const overlay = h('div', { class: 'overlay', id: 'receivers-dialog' });
   const dialog = h('div', { class: 'dialog wide-dialog' });
   overlay.append(dialog);
-  const close = () => overlay.remove();
+  let close = () => overlay.remove();
   dialog.append(
     h(
       'div',
       { class: 'row spread center' },
       h('h1', {}, 'Receivers'),
-      h('button', { type: 'button', class: 'ghost', id: 'receivers-close', onclick: close }, 'Close'),
+      h('button', { type: 'button', class: 'ghost', id: 'receivers-close', onclick: () => close() }, 'Close'),
     ),
     h(
       'p',
@@ -60,7 +54,7 @@ export async function showReceiversDialog(api: ServiceClient, notify: Notify): P
   const calib = h('section', { class: 'card', id: 'rx-calibration' });
   const templates = h('section', { class: 'card', id: 'rx-templates' });
   dialog.append(h('div', { class: 'two' }, profiles, calib), templates);
-  document.body.append(overlay);
+  close = openModal(overlay, true);
 
   const reload = async () => {
     [state.receivers, state.templates] = await Promise.all([

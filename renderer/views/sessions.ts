@@ -8,6 +8,8 @@ import type { StoredReceiver } from '../../app/receiver';
 import { ApiError } from '../api';
 import { h } from '../dom';
 import { dbm, when } from '../format';
+import { readNumber } from '../numinput';
+import { openModal } from '../dialog';
 
 export interface SessionsDialogDeps {
   api: ServiceClient;
@@ -21,8 +23,8 @@ function field(label: string, input: HTMLElement, cls = ''): HTMLLabelElement {
 export async function showSessionsDialog(deps: SessionsDialogDeps, closable: boolean): Promise<void> {
   const { api } = deps;
   const [tree, sessions] = await Promise.all([api.call('tree', {}), api.call('listSessions', {})]);
-  const overlay = h('div', { class: 'overlay', id: 'sessions-dialog', role: 'dialog', 'aria-modal': 'true' });
-  const close = () => overlay.remove();
+  const overlay = h('div', { class: 'overlay', id: 'sessions-dialog' });
+  let close = () => overlay.remove();
   const dialog = h('div', { class: 'dialog' });
   overlay.append(dialog);
   dialog.append(
@@ -30,7 +32,7 @@ export async function showSessionsDialog(deps: SessionsDialogDeps, closable: boo
       'div',
       { class: 'row spread center' },
       h('h1', {}, 'Sessions'),
-      closable ? h('button', { type: 'button', class: 'ghost', onclick: close }, 'Close') : null,
+      closable ? h('button', { type: 'button', class: 'ghost', onclick: () => close() }, 'Close') : null,
     ),
     h(
       'p',
@@ -49,10 +51,10 @@ export async function showSessionsDialog(deps: SessionsDialogDeps, closable: boo
       },
       deps,
     ),
-    newSessionForm(tree, deps, close),
+    newSessionForm(tree, deps, () => close()),
   );
   dialog.append(two);
-  document.body.append(overlay);
+  close = openModal(overlay, closable);
 }
 
 function sessionList(
@@ -252,12 +254,7 @@ function newSessionForm(tree: Tree, deps: SessionsDialogDeps, close: () => void)
     start.disabled = true;
     void (async () => {
       try {
-        const num = (el: HTMLInputElement, what: string) => {
-          const v = Number(el.value.replace(',', '.'));
-          if (el.value.trim() === '' || !Number.isFinite(v))
-            throw new ApiError('EINVAL', `${what}: "${el.value}" is not a number`);
-          return v;
-        };
+        const num = (el: HTMLInputElement, what: string) => readNumber(el, what);
         const pepW = num(pep, 'Transmitter PEP');
         if (!(pepW > 0)) throw new ApiError('EINVAL', 'Transmitter PEP: must be above 0 W');
         const elements = parsePathSpec(path.value);

@@ -8,6 +8,7 @@ import { clear, h } from '../dom';
 import { when } from '../format';
 import { go, type NavDeps, type RecordsView } from '../route';
 import { base64Bytes, download, field } from './recordsui';
+import { numberInput, readNumber } from '../numinput';
 
 const METRIC_CHOICES: { value: string; label: string }[] = [
   { value: 'carrier:pep', label: 'Carrier, dB below PEP (at least)' },
@@ -253,13 +254,7 @@ export class SheetView implements RecordsView {
         { name: 'rule-metric' },
         ...METRIC_CHOICES.map((c) => h('option', { value: c.value }, c.label)),
       );
-      const value = h('input', {
-        name: 'rule-db',
-        type: 'number',
-        step: '0.5',
-        value: '40',
-        'aria-label': 'dB',
-      });
+      const value = numberInput({ name: 'rule-db', value: '40', 'aria-label': 'dB' });
       const row = h(
         'div',
         { class: 'rule-row' },
@@ -317,12 +312,20 @@ export class SheetView implements RecordsView {
           onsubmit: (e: Event) => {
             e.preventDefault();
             err.textContent = '';
-            const ruleList = Array.from(rules.querySelectorAll('.rule-row')).map((r) =>
-              ruleFrom(
-                (r.querySelector('select') as HTMLSelectElement).value,
-                Number((r.querySelector('input') as HTMLInputElement).value),
-              ),
-            );
+            let ruleList;
+            try {
+              ruleList = Array.from(rules.querySelectorAll('.rule-row')).map((r, i) =>
+                ruleFrom(
+                  (r.querySelector('select') as HTMLSelectElement).value,
+                  readNumber(r.querySelector('input') as HTMLInputElement, `rule ${i + 1}: dB`, {
+                    unit: 'dB',
+                  }),
+                ),
+              );
+            } catch (x) {
+              err.textContent = (x as Error).message;
+              return;
+            }
             void api
               .call('saveLimitSet', { set: { name: name.value, source: source.value, rules: ruleList } })
               .then(

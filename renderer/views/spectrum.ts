@@ -5,6 +5,7 @@ import type { ServiceClient, SpectrumComponent, SpectrumFrame, SpectrumRatio } f
 import { ROLE_LABELS } from '../../app/api';
 import { h } from '../dom';
 import { dbm } from '../format';
+import { numberInput, readNumber } from '../numinput';
 
 type Notify = (level: 'info' | 'warn' | 'error', msg: string) => void;
 
@@ -82,9 +83,9 @@ export class SpectrumPanel {
       },
       'Keep this measurement',
     );
-    this.fsIn = h('input', { name: 'full-scale', type: 'number', step: '0.1', size: 7, placeholder: 'dBm' });
-    this.genIn = h('input', { name: 'gen-dbm', type: 'number', step: '0.1', size: 7, placeholder: 'dBm' });
-    this.padIn = h('input', { name: 'pad-db', type: 'number', step: '0.1', size: 6, placeholder: 'dB' });
+    this.fsIn = numberInput({ name: 'full-scale', size: 7, placeholder: 'dBm' });
+    this.genIn = numberInput({ name: 'gen-dbm', size: 7, placeholder: 'dBm' });
+    this.padIn = numberInput({ name: 'pad-db', size: 6, placeholder: 'dB' });
     this.root = h(
       'section',
       { class: 'card spectrum', id: 'spectrum-card' },
@@ -203,12 +204,8 @@ export class SpectrumPanel {
   }
 
   private async setFullScale(): Promise<void> {
-    const v = Number(this.fsIn.value);
-    if (this.fsIn.value.trim() === '' || !Number.isFinite(v)) {
-      this.notify('error', 'dBm at 0 dBFS: enter a number of dBm');
-      return;
-    }
     try {
+      const v = readNumber(this.fsIn, 'dBm at 0 dBFS', { unit: 'dBm' });
       const c = await this.api.call('spectrumCalibrate', { dbmAtFullScale: v });
       this.notify('info', `0 dBFS = ${dbm(c.dbmAtFullScale)} dBm (± ${c.uDb.toFixed(1)} dB) from now on`);
     } catch (e) {
@@ -217,13 +214,9 @@ export class SpectrumPanel {
   }
 
   private async inject(): Promise<void> {
-    const gen = Number(this.genIn.value);
-    const pad = Number(this.padIn.value);
-    if (this.genIn.value.trim() === '' || this.padIn.value.trim() === '' || !Number.isFinite(gen + pad)) {
-      this.notify('error', 'reference injection: enter the generator level (dBm) and the pad (dB)');
-      return;
-    }
     try {
+      const gen = readNumber(this.genIn, 'reference injection: generator level', { unit: 'dBm' });
+      const pad = readNumber(this.padIn, 'reference injection: pad', { unit: 'dB', min: 0 });
       const c = await this.api.call('spectrumCalibrate', { injection: { generatorDbm: gen, padDb: pad } });
       this.fsIn.value = c.dbmAtFullScale.toFixed(1);
       this.notify(
