@@ -16,8 +16,11 @@ mkdirSync('dist/renderer', { recursive: true });
 await Promise.all([
   build({
     ...common,
-    entryPoints: ['main/shells/cli/run.ts'],
-    outfile: 'dist/cli.js',
+    // Split: each command is its own chunk, loaded when it runs (main/shells/cli/index.ts).
+    entryPoints: { cli: 'main/shells/cli/run.ts' },
+    outdir: 'dist',
+    splitting: true,
+    chunkNames: 'cli-chunks/[name]-[hash]',
     platform: 'node',
     format: 'esm',
     packages: 'external',

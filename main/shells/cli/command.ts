@@ -1,4 +1,5 @@
-// Runs in Node. What every CLI command is: a record with its name, one-line summary, usage text and run().
+// Runs in Node. What every CLI command is: a record with its name, usage text and run(); the list in
+// index.ts gives each its one-line summary and loads it when it runs.
 import { parseArgs, type ParseArgsConfig } from 'node:util';
 import { SupportLog } from '../../service/supportlog';
 import { BenchError, errorText } from '../../../app/errors';
@@ -10,10 +11,16 @@ export interface Io {
 
 export interface Command {
   name: string;
-  summary: string;
   usage: string;
   /** Returns the exit code: 0 done, 1 failed at run time, 2 bad usage or bad input. */
   run(argv: string[], io: Io): Promise<number>;
+}
+
+/** A command in the list: what `--help` shows of it, and how to load the rest. */
+export interface CommandEntry {
+  name: string;
+  summary: string;
+  load(): Promise<Command>;
 }
 
 /** node:util parseArgs with strict checking; a misspelt option becomes a usage error naming it. */

@@ -17,8 +17,6 @@ const f1 = (x: number) => {
 
 export const compareCommand: Command = {
   name: 'compare',
-  summary:
-    'compare the revisions of a design: spread of carrier suppression, balance, opposite sideband, IMD3',
   usage: `nullbench compare --design NAME [--reference pep|tone|unbalanced] [--db FILE] [--json]
 
 Options:

@@ -6,7 +6,6 @@ import { parseOptions, reportError, type Command } from './command';
 
 export const demoCommand: Command = {
   name: 'demo',
-  summary: 'fill a database with an invented demo scenario (one design, two revisions, six units, sweeps)',
   usage: `nullbench demo [--db FILE] [--json]
 
 Options:

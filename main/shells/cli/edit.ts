@@ -9,7 +9,6 @@ import { withRecords } from './records';
 
 export const addCommand: Command = {
   name: 'add',
-  summary: 'add a design, a board revision of it, and a unit (what already exists is left as it is)',
   usage: `nullbench add --design NAME [--revision NAME [--unit SERIAL]] [options]
 
 Options:
@@ -136,7 +135,6 @@ Options:
 
 export const editCommand: Command = {
   name: 'edit',
-  summary: "rename a design or revision, note what changed, correct a unit, set a session's emission",
   usage: `nullbench edit TARGET [changes] [--db FILE] [--json]
 
 Targets (one):

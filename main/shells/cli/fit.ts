@@ -213,7 +213,6 @@ function joinNegativeValues(argv: string[], options: string[]): string[] {
 
 export const fitCommand: Command = {
   name: 'fit',
-  summary: 'fit the carrier null to trimmer readings in a CSV file: best setting, interval, depth',
   usage: `nullbench fit FILE.csv [--json] [--floor-dbm F]
 
 FILE.csv has a header line and one reading per line:

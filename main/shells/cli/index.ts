@@ -1,45 +1,106 @@
 // Runs in Node. The command-line shell: one explicit list of commands, one line each.
 import { version } from '../../../package.json';
-import type { Command, Io } from './command';
-import { compareCommand } from './compare';
-import { addCommand, editCommand } from './edit';
-import { limitsCommand } from './limits';
-import { sheetCommand } from './sheet';
-import { exportCommand, importCommand } from './transfer';
-import { designsCommand, unitsCommand } from './units';
-import { demoCommand } from './demo';
-import { fitCommand } from './fit';
-import { logCommand } from './log';
-import { measureCommand } from './measure';
-import { planCommand } from './plan';
-import { readCommand } from './read';
-import { receiversCommand } from './receivers';
-import { serveCommand } from './serve';
-import { templatesCommand } from './templates';
+import type { CommandEntry, Io } from './command';
 import { existsSync } from 'node:fs';
 import { defaultDbPath } from '../../paths';
-import { discardIfEmpty } from '../../store/db';
 import { supportLogPath } from '../../service/supportlog';
 
-export const COMMANDS: Command[] = [
-  readCommand,
-  serveCommand,
-  demoCommand,
-  measureCommand,
-  logCommand,
-  fitCommand,
-  planCommand,
-  receiversCommand,
-  templatesCommand,
-  designsCommand,
-  unitsCommand,
-  addCommand,
-  editCommand,
-  compareCommand,
-  limitsCommand,
-  sheetCommand,
-  exportCommand,
-  importCommand,
+/**
+ * Every command, one line each: its name and summary here, its code loaded only when it runs (so
+ * `--version` and `--help` start about as fast as Node itself; test/bench/startup.bench.ts).
+ */
+export const COMMANDS: CommandEntry[] = [
+  {
+    name: 'read',
+    summary: 'read levels from a receiver (or the simulated bench) and print them corrected',
+    load: async () => (await import('./read')).readCommand,
+  },
+  {
+    name: 'serve',
+    summary: 'run the local web mode (browser UI + API) on this machine',
+    load: async () => (await import('./serve')).serveCommand,
+  },
+  {
+    name: 'demo',
+    summary: 'fill a database with an invented demo scenario (one design, two revisions, six units, sweeps)',
+    load: async () => (await import('./demo')).demoCommand,
+  },
+  {
+    name: 'measure',
+    summary: 'measure carrier suppression, sidebands and IMD in an IQ recording (WAV or SigMF) by FFT',
+    load: async () => (await import('./measure')).measureCommand,
+  },
+  {
+    name: 'log',
+    summary: 'log readings into a session at a set rate; each printed JSON line is already safe on disk',
+    load: async () => (await import('./log')).logCommand,
+  },
+  {
+    name: 'fit',
+    summary: 'fit the carrier null to trimmer readings in a CSV file: best setting, interval, depth',
+    load: async () => (await import('./fit')).fitCommand,
+  },
+  {
+    name: 'plan',
+    summary: 'run, resume, show or list frequency-stepped plans (carrier, tones, IMD, harmonics, reference)',
+    load: async () => (await import('./plan')).planCommand,
+  },
+  {
+    name: 'receivers',
+    summary: 'stored receiver profiles and their guided calibration (signal generator through a known pad)',
+    load: async () => (await import('./receivers')).receiversCommand,
+  },
+  {
+    name: 'templates',
+    summary: 'list, show, export, import or remove serial command-set templates',
+    load: async () => (await import('./templates')).templatesCommand,
+  },
+  {
+    name: 'designs',
+    summary: 'list designs with their revisions, what changed in each, and how many units',
+    load: async () => (await import('./units')).designsCommand,
+  },
+  {
+    name: 'units',
+    summary: 'list the units (serial, design, revision, builder, sessions)',
+    load: async () => (await import('./units')).unitsCommand,
+  },
+  {
+    name: 'add',
+    summary: 'add a design, a board revision of it, and a unit (what already exists is left as it is)',
+    load: async () => (await import('./edit')).addCommand,
+  },
+  {
+    name: 'edit',
+    summary: "rename a design or revision, note what changed, correct a unit, set a session's emission",
+    load: async () => (await import('./edit')).editCommand,
+  },
+  {
+    name: 'compare',
+    summary:
+      'compare the revisions of a design: spread of carrier suppression, balance, opposite sideband, IMD3',
+    load: async () => (await import('./compare')).compareCommand,
+  },
+  {
+    name: 'limits',
+    summary: 'list limit sets (presets with sources, and your own); save or delete your own',
+    load: async () => (await import('./limits')).limitsCommand,
+  },
+  {
+    name: 'sheet',
+    summary: 'print the test sheet of a unit to PDF (or HTML): identity, set-up, results, verdicts, charts',
+    load: async () => (await import('./sheet')).sheetCommand,
+  },
+  {
+    name: 'export',
+    summary: 'export everything (or one design) as a JSON bundle, or the readings as CSV',
+    load: async () => (await import('./transfer')).exportCommand,
+  },
+  {
+    name: 'import',
+    summary: 'merge a JSON bundle into the database (no duplicates; a bad file changes nothing)',
+    load: async () => (await import('./transfer')).importCommand,
+  },
 ];
 
 export function usage(): string {
@@ -71,17 +132,19 @@ export async function main(argv: string[], io: Io): Promise<number> {
     io.out(`nullbench ${version}\n`);
     return 0;
   }
-  const cmd = COMMANDS.find((c) => c.name === name);
-  if (!cmd) {
+  const entry = COMMANDS.find((c) => c.name === name);
+  if (!entry) {
     io.err(`error (EINVAL): unknown command "${name}"\n\n${usage()}`);
     return 2;
   }
   // A command that fails leaves no database behind that it made itself and stored nothing in.
   const db = databaseOf(rest);
   const isNew = db !== ':memory:' && !existsSync(db);
+  const cmd = await entry.load();
   const code = await cmd.run(rest, io);
   if (code !== 0 && isNew) {
     try {
+      const { discardIfEmpty } = await import('../../store/db');
       discardIfEmpty(db);
     } catch {
       // Whatever is there stays: removing it was only tidying.

@@ -9,7 +9,6 @@ import { readRecords, withRecords } from './records';
 
 export const limitsCommand: Command = {
   name: 'limits',
-  summary: 'list limit sets (presets with sources, and your own); save or delete your own',
   usage: `nullbench limits [--db FILE] [--json] [--save FILE.json | --delete ID]
 
 Options:

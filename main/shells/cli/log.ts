@@ -51,7 +51,6 @@ const NUMBER_OPTIONS = [
 
 export const logCommand: Command = {
   name: 'log',
-  summary: 'log readings into a session at a set rate; each printed JSON line is already safe on disk',
   usage: `nullbench log --tx-pep-dbm P --max-input-dbm M [--source SPEC] [--rate-hz R] [--for-s S] [options]
 nullbench log --session ID [--rate-hz R] [--for-s S]
 

@@ -28,7 +28,6 @@ const LABELS: Record<ComponentRole, string> = {
 
 export const measureCommand: Command = {
   name: 'measure',
-  summary: 'measure carrier suppression, sidebands and IMD in an IQ recording (WAV or SigMF) by FFT',
   usage: `nullbench measure FILE --tone-hz F [--carrier-hz OFFSET] [--window NAME] [--fft N] [--averages K] [--json]
 
 FILE is a two-channel WAV (I = channel 1, Q = channel 2; 8-bit, 16/24/32-bit integer or float) or a SigMF

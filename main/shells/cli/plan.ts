@@ -115,7 +115,6 @@ async function follow(service: Service, id: string, io: Io): Promise<PlanView> {
 
 export const planCommand: Command = {
   name: 'plan',
-  summary: 'run, resume, show or list frequency-stepped plans (carrier, tones, IMD, harmonics, reference)',
   usage: USAGE,
   async run(argv, io) {
     let store: Store | null = null;

@@ -20,7 +20,6 @@ const SOFT = new Set(['ETIMEOUT', 'EPROTO', 'EIO']);
 
 export const readCommand: Command = {
   name: 'read',
-  summary: 'read levels from a receiver (or the simulated bench) and print them corrected',
   usage: `nullbench read [--source SPEC [--template NAME] | --receiver NAME] [--count N] [--freq-hz F]
                   [--path ELEMENTS] [--json] [--db FILE] [--retry-for S]
 

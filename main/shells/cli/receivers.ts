@@ -70,7 +70,6 @@ function summary(r: StoredReceiver): string {
 
 export const receiversCommand: Command = {
   name: 'receivers',
-  summary: 'stored receiver profiles and their guided calibration (signal generator through a known pad)',
   usage: USAGE,
   async run(argv, io: Io) {
     let store: Store | null = null;

@@ -115,7 +115,6 @@ export const NETWORK_WARNING =
 
 export const serveCommand: Command = {
   name: 'serve',
-  summary: 'run the local web mode (browser UI + API) on this machine',
   usage: `nullbench serve [--port P] [--db FILE] [--host ADDR] [--token] [--new-token] [--allow-host NAME]...
 
 Options:

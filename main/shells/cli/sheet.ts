@@ -9,7 +9,6 @@ import { readRecords, writeWhole } from './records';
 
 export const sheetCommand: Command = {
   name: 'sheet',
-  summary: 'print the test sheet of a unit to PDF (or HTML): identity, set-up, results, verdicts, charts',
   usage: `nullbench sheet --unit SERIAL --out FILE.pdf [options]
 
 Options:

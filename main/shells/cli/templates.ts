@@ -44,7 +44,6 @@ Options:
 
 export const templatesCommand: Command = {
   name: 'templates',
-  summary: 'list, show, export, import or remove serial command-set templates',
   usage: USAGE,
   async run(argv, io: Io) {
     let store: Store | null = null;

@@ -8,7 +8,6 @@ import { readRecords, withRecords, writeWhole } from './records';
 
 export const exportCommand: Command = {
   name: 'export',
-  summary: 'export everything (or one design) as a JSON bundle, or the readings as CSV',
   usage: `nullbench export --out FILE [--design NAME] [--csv [--unit SERIAL | --session ID]] [--db FILE]
 
 Options:
@@ -78,7 +77,6 @@ Options:
 
 export const importCommand: Command = {
   name: 'import',
-  summary: 'merge a JSON bundle into the database (no duplicates; a bad file changes nothing)',
   usage: `nullbench import FILE.json [--db FILE] [--json]
 
 Records already here (the same ID, or a design, revision or unit of the same name or serial) are not

@@ -4,7 +4,6 @@ import { readRecords } from './records';
 
 export const unitsCommand: Command = {
   name: 'units',
-  summary: 'list the units (serial, design, revision, builder, sessions)',
   usage: `nullbench units [--db FILE] [--design NAME] [--json]
 
 Options:
@@ -52,7 +51,6 @@ Options:
 
 export const designsCommand: Command = {
   name: 'designs',
-  summary: 'list designs with their revisions, what changed in each, and how many units',
   usage: `nullbench designs [--db FILE] [--json]
 
 Options:
