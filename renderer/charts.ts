@@ -10,6 +10,7 @@ import {
   Legend,
   Tooltip,
   Filler,
+  Ticks,
   type ChartDataset,
 } from 'chart.js';
 import { decimateForChart } from '../app/decimate';
@@ -24,9 +25,54 @@ Chart.register(
   Tooltip,
   Filler,
 );
-Chart.defaults.color = '#9db4b9';
-Chart.defaults.borderColor = '#2a4850';
+/** A colour of the page's theme (style.css :root), so charts follow the light and the dark look. */
+export function themeColour(name: string, fallback: string): string {
+  const v = getComputedStyle(document.documentElement).getPropertyValue(name).trim();
+  return v || fallback;
+}
+
+Chart.defaults.color = themeColour('--muted', '#9db4b9');
+Chart.defaults.borderColor = themeColour('--line', '#2a4850');
 Chart.defaults.font.family = "'DejaVu Sans', system-ui, sans-serif";
+// The system's light or dark look can change while the app is open: the charts follow it.
+window.matchMedia?.('(prefers-color-scheme: light)').addEventListener('change', () => {
+  Chart.defaults.color = themeColour('--muted', '#9db4b9');
+  Chart.defaults.borderColor = themeColour('--line', '#2a4850');
+  for (const c of Object.values(Chart.instances)) {
+    for (const axis of Object.values(c.options.scales ?? {})) {
+      if (axis?.grid) axis.grid.color = Chart.defaults.borderColor as string;
+      if (axis?.ticks) axis.ticks.color = Chart.defaults.color as string;
+    }
+    c.update('none');
+  }
+});
+// Ticks are written like every other figure in the app, whatever the browser's locale: a decimal point,
+// no thousands separator, the typographic minus (renderer/format.ts).
+Chart.defaults.locale = 'en-US';
+Chart.defaults.scales.linear.ticks.callback = function (value, index, ticks) {
+  const text = Ticks.formatters.numeric.call(this, Number(value), index, ticks);
+  return String(text).replace(/,/g, '').replace(/^-/, '\u2212');
+};
+
+/**
+ * What an empty chart or panel says instead of empty axes: `text` shows over the box (the canvas is
+ * hidden); null takes the note away once there is something to draw.
+ */
+export function emptyNote(box: HTMLElement, text: string | null): void {
+  let note = box.querySelector<HTMLElement>(':scope > .chart-empty');
+  if (text === null) {
+    box.classList.remove('empty');
+    note?.remove();
+    return;
+  }
+  if (!note) {
+    note = document.createElement('p');
+    note.className = 'chart-empty';
+    box.append(note);
+  }
+  if (note.textContent !== text) note.textContent = text;
+  box.classList.add('empty');
+}
 
 const STRIP_SECONDS = 60;
 
@@ -52,7 +98,7 @@ export class StripChart {
         plugins: { legend: { display: false }, tooltip: { enabled: false } },
         scales: {
           x: { type: 'linear', min: -STRIP_SECONDS, max: 0, title: { display: true, text: 'seconds ago' } },
-          y: { type: 'linear', title: { display: true, text: 'dBm at transmitter' } },
+          y: { type: 'linear', title: { display: true, text: 'dBm' } },
         },
       },
     });

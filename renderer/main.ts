@@ -12,11 +12,16 @@ import { when } from './format';
 const api = connect();
 const notices = $('#notices');
 
+/** The newest notices, newest first, in the context bar under the top bar (never over a control). */
 function notify(level: 'info' | 'warn' | 'error', message: string): void {
-  const n = h('div', { class: `notice ${level}`, role: level === 'error' ? 'alert' : 'status' }, message);
-  notices.append(n);
-  setTimeout(() => n.remove(), level === 'info' ? 3500 : 9000);
-  while (notices.children.length > 4) notices.firstElementChild?.remove();
+  const n = h(
+    'div',
+    { class: `notice ${level}`, role: level === 'error' ? 'alert' : 'status', title: message },
+    message,
+  );
+  notices.prepend(n);
+  setTimeout(() => n.remove(), level === 'info' ? 4000 : 12000);
+  while (notices.children.length > 2) notices.lastElementChild?.remove();
 }
 
 const view = new BenchView($('#app'), api, notify);
@@ -115,8 +120,13 @@ $('#btn-receivers').addEventListener('click', () => {
 
 document.addEventListener('keydown', (e) => {
   const t = e.target as HTMLElement;
+  // A modified key is somebody else's shortcut (Ctrl+K, Alt+K…): only the bare key keeps.
   if (
     e.key.toLowerCase() === 'k' &&
+    !e.ctrlKey &&
+    !e.altKey &&
+    !e.metaKey &&
+    !e.repeat &&
     !['INPUT', 'TEXTAREA', 'SELECT'].includes(t.tagName) &&
     !document.querySelector('.overlay') &&
     !$('#app').hidden

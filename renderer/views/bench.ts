@@ -11,9 +11,12 @@ import {
   type Status,
 } from '../../app/api';
 import { formatPath, validatePath } from '../../app/path';
-import { NullChart, StripChart } from '../charts';
+import { emptyNote, NullChart, StripChart } from '../charts';
 import { clear, h } from '../dom';
 import { dbm, mhz, signed, sUnits } from '../format';
+import { numberInput, readNumber } from '../numinput';
+import { Panes } from '../tabs';
+import { FarView, NullTone } from './farview';
 import { PlanPanel } from './plan';
 import { GuidePanel } from './guide';
 import { SpectrumPanel } from './spectrum';
@@ -33,6 +36,9 @@ export class BenchView {
   private busy = false;
   /** Guided alignment and the null map (their own files: views/guide.ts, views/nullmap.ts). */
   private guide: GuidePanel | null = null;
+  private panes: Panes | null = null;
+  private readonly far = new FarView();
+  private readonly tone = new NullTone();
 
   constructor(
     root: HTMLElement,
@@ -101,6 +107,9 @@ export class BenchView {
       .filter(Boolean)
       .join(' · ');
     this.strip.push(r.t, r.dbmDut);
+    emptyNote(this.els.stripBox, null);
+    this.far.show(r, this.els.role.textContent ?? '');
+    this.tone.follow(r.dbmDut);
     this.guide?.onReading(r);
   }
 
@@ -137,10 +146,53 @@ export class BenchView {
     e.keptBody = h('tbody', { id: 'kept-rows' });
     e.nullNote = h('p', { class: 'hint', id: 'null-note' });
 
+    const roles = h(
+      'div',
+      { class: 'roles', role: 'group', 'aria-label': 'Point being read' },
+      h('span', { class: 'hint' }, 'Reading:'),
+      ...ROLES.map((r) =>
+        h(
+          'button',
+          {
+            type: 'button',
+            'data-role': r,
+            class: r === 'carrier' ? 'on' : '',
+            title:
+              r === 'upper' || r === 'lower'
+                ? 'Keep the upper and lower tone once: the carrier is then shown in dBc against them'
+                : undefined,
+            onclick: () => void this.tune(r),
+          },
+          ROLE_LABELS[r],
+        ),
+      ),
+    );
+    e.stripBox = h('div', { class: 'chart-box strip' }, stripCanvas);
+    emptyNote(e.stripBox, 'Waiting for the first reading from the receiver…');
     const levelCard = h(
       'section',
-      { class: 'card' },
-      h('h2', {}, 'Level at the transmitter output'),
+      { class: 'card level-card', id: 'level-card' },
+      h(
+        'div',
+        { class: 'row spread center' },
+        h('h2', {}, 'Level at the transmitter output'),
+        h(
+          'div',
+          { class: 'row center tight' },
+          this.tone.button(),
+          h(
+            'button',
+            {
+              type: 'button',
+              class: 'ghost small',
+              id: 'far-view-open',
+              title: 'The level large enough to read from across the bench (Esc returns)',
+              onclick: () => this.far.open(),
+            },
+            'Far view',
+          ),
+        ),
+      ),
       h(
         'div',
         { class: 'level' },
@@ -155,7 +207,8 @@ export class BenchView {
           e.flags,
         ),
       ),
-      h('div', { class: 'chart-box' }, stripCanvas),
+      roles,
+      e.stripBox,
     );
 
     const trimSelect = h(
@@ -171,30 +224,31 @@ export class BenchView {
     );
     const nullCard = h(
       'section',
-      { class: 'card' },
+      { class: 'pane-card' },
       h(
         'div',
         { class: 'row spread' },
         h('h2', {}, 'Carrier null'),
         h('label', { class: 'inline' }, 'against', trimSelect),
       ),
-      h('div', { class: 'chart-box tall' }, nullCanvas),
+      (e.nullBox = h('div', { class: 'chart-box tall' }, nullCanvas)),
       e.nullNote,
     );
 
-    const trimCard = h('section', { class: 'card' }, h('h2', {}, 'Trimmers'));
+    const trimCard = h('section', { class: 'card', id: 'trim-card' }, h('h2', {}, 'Trimmers'));
     for (const t of s.trims) {
-      const inp = h('input', {
-        id: `trim-${t.key}`,
-        type: 'number',
-        step: '0.01',
-        min: t.min,
-        max: t.max,
-        value: (t.min + t.max) / 2,
-        'aria-label': t.label,
-      });
+      const inp = numberInput({ id: `trim-${t.key}`, value: (t.min + t.max) / 2 });
       this.trimInputs.set(t.key, inp);
-      const apply = () => void this.applyTrim(t.key, Number(inp.value));
+      const apply = () => {
+        let v: number;
+        try {
+          v = readNumber(inp, `${t.label}`, { min: t.min, max: t.max, unit: t.unit });
+        } catch (x) {
+          this.notify('error', (x as Error).message);
+          return;
+        }
+        void this.applyTrim(t.key, v);
+      };
       inp.addEventListener('change', apply);
       const nudge = (d: number) =>
         h(
@@ -203,7 +257,8 @@ export class BenchView {
             type: 'button',
             title: `${d > 0 ? '+' : ''}${d} ${t.unit}`,
             onclick: () => {
-              inp.value = String(round(Number(inp.value) + d, 4));
+              const now = Number(inp.value.replace(',', '.'));
+              inp.value = String(round((Number.isFinite(now) ? now : (t.min + t.max) / 2) + d, 4));
               apply();
             },
           },
@@ -222,41 +277,14 @@ export class BenchView {
       h(
         'p',
         { class: 'hint' },
-        'Type where each trimmer now stands (or use − / +), wait for "steady", then keep. Keyboard: K keeps.',
+        'Type where each trimmer stands (4.37 or 4,37; or − / +), wait for "steady", then keep. Key K keeps.',
       ),
       keepBtn,
     );
 
-    const roleCard = h(
-      'section',
-      { class: 'card' },
-      h('h2', {}, 'Point being read'),
-      h(
-        'div',
-        { class: 'roles' },
-        ...ROLES.map((r) =>
-          h(
-            'button',
-            {
-              type: 'button',
-              'data-role': r,
-              class: r === 'carrier' ? 'on' : '',
-              onclick: () => void this.tune(r),
-            },
-            ROLE_LABELS[r],
-          ),
-        ),
-      ),
-      h(
-        'p',
-        { class: 'hint' },
-        'Keep the upper and lower tone once: the carrier is then shown in dBc against them.',
-      ),
-    );
-
-    const fromIn = h('input', { id: 'sweep-from', type: 'number', value: 1, step: '0.1' });
-    const toIn = h('input', { id: 'sweep-to', type: 'number', value: 8, step: '0.1' });
-    const stepsIn = h('input', { id: 'sweep-steps', type: 'number', value: 11, min: 2, max: 200 });
+    const fromIn = numberInput({ id: 'sweep-from', value: 1 });
+    const toIn = numberInput({ id: 'sweep-to', value: 8 });
+    const stepsIn = numberInput({ id: 'sweep-steps', value: 11 }, true);
     const sweepTrim = h(
       'select',
       { id: 'sweep-trim' },
@@ -268,14 +296,7 @@ export class BenchView {
       {
         type: 'button',
         id: 'sweep-run',
-        onclick: () =>
-          void this.sweep(
-            sweepTrim.value,
-            Number(fromIn.value),
-            Number(toIn.value),
-            Number(stepsIn.value),
-            sweepBtn,
-          ),
+        onclick: () => void this.sweep(sweepTrim.value, fromIn, toIn, stepsIn, sweepBtn),
       },
       'Run sweep',
     );
@@ -284,8 +305,12 @@ export class BenchView {
     const sweepCard = simOnly
       ? h(
           'section',
-          { class: 'card' },
-          h('h2', {}, 'Automatic sweep (simulated bench)'),
+          { class: 'pane-card' },
+          h(
+            'p',
+            { class: 'hint' },
+            'The simulated bench turns one trimmer through the range and keeps a reading at each step.',
+          ),
           h(
             'div',
             { class: 'row' },
@@ -299,10 +324,15 @@ export class BenchView {
         )
       : null;
 
+    e.keptEmpty = h(
+      'p',
+      { class: 'hint empty-note', id: 'kept-empty' },
+      'Nothing kept yet in this session: set the trimmers, wait for "steady", and press Keep.',
+    );
     const keptCard = h(
       'section',
-      { class: 'card' },
-      h('h2', {}, 'Kept readings'),
+      { class: 'pane-card' },
+      e.keptEmpty,
       h(
         'div',
         { class: 'scroll short' },
@@ -329,8 +359,7 @@ export class BenchView {
 
     const setup = h(
       'section',
-      { class: 'card' },
-      h('h2', {}, 'Set-up'),
+      { class: 'pane-card' },
       h(
         'p',
         { class: 'hint' },
@@ -348,22 +377,32 @@ export class BenchView {
       fitted: () => this.refreshKept(false),
       turnsTrims: simOnly,
     });
+    const map = this.guide.mapElement();
+    const planEl = this.plan.element(s);
+    const spectrumEl = this.spectrumPanel(s.id);
+    this.panes = new Panes(
+      'bench-panes',
+      [
+        { key: 'null', label: 'Null chart', body: nullCard },
+        ...(map ? [{ key: 'map', label: 'Null map', body: map }] : []),
+        { key: 'kept', label: 'Kept readings', body: keptCard },
+        { key: 'plan', label: 'Plan', body: planEl },
+        { key: 'spectrum', label: 'Spectrum (SDR)', body: spectrumEl },
+        ...(sweepCard ? [{ key: 'sweep', label: 'Sweep', body: sweepCard }] : []),
+        { key: 'setup', label: 'Set-up', body: setup },
+      ],
+      'Bench panels',
+    );
+    // At a glance: the level, the trimmers with Keep, and the guide's next step share the first screen;
+    // the other panels are one tab away below the level, so none of the three ever scrolls away.
     this.root.append(
       h(
         'div',
-        { class: 'grid' },
-        h(
-          'div',
-          { class: 'stack' },
-          levelCard,
-          nullCard,
-          this.guide.mapElement(),
-          keptCard,
-          this.plan.element(s),
-          this.spectrumPanel(s.id),
-        ),
-        h('div', { class: 'stack' }, this.guide.element(), trimCard, roleCard, sweepCard, setup),
+        { class: 'grid bench-grid' },
+        h('div', { class: 'stack' }, levelCard, h('section', { class: 'card panes-card' }, this.panes.root)),
+        h('div', { class: 'stack' }, trimCard, this.guide.element()),
       ),
+      this.far.element(),
     );
     this.strip = new StripChart(stripCanvas);
     this.nullChart = new NullChart(nullCanvas);
@@ -405,11 +444,20 @@ export class BenchView {
 
   private async sweep(
     trim: string,
-    from: number,
-    to: number,
-    steps: number,
+    fromIn: HTMLInputElement,
+    toIn: HTMLInputElement,
+    stepsIn: HTMLInputElement,
     btn: HTMLButtonElement,
   ): Promise<void> {
+    let from: number, to: number, steps: number;
+    try {
+      from = readNumber(fromIn, 'Sweep from');
+      to = readNumber(toIn, 'Sweep to');
+      steps = readNumber(stepsIn, 'Sweep steps', { integer: true, min: 2, max: 200 });
+    } catch (x) {
+      this.els.sweepMsg.textContent = (x as Error).message;
+      return;
+    }
     btn.disabled = true;
     this.busy = true;
     this.els.sweepMsg.textContent = 'Sweeping…';
@@ -446,6 +494,7 @@ export class BenchView {
   /** @param refit ask the guide for a new fit (not when the guide itself asks for the redraw) */
   private refreshKept(refit = true): void {
     const s = this.session!;
+    const e0 = this.els;
     const body = this.els.keptBody;
     clear(body);
     for (const r of [...this.kept].reverse().slice(0, 200)) {
@@ -475,12 +524,20 @@ export class BenchView {
           .map((t) => `${t.label} at ${round(r.trims[t.key], 3)} ${t.unit}`)
           .join(', '),
       }));
+    e0.keptEmpty.hidden = this.kept.length > 0;
+    this.panes?.relabel('kept', this.kept.length ? `Kept readings (${this.kept.length})` : 'Kept readings');
+    emptyNote(
+      e0.nullBox,
+      pts.length
+        ? null
+        : 'No carrier readings kept yet. Set a trimmer, wait for "steady", press Keep; repeat on both sides of the dip, and the null appears here.',
+    );
     const now = this.status?.trims[def.key] ?? null;
     this.nullChart.show(pts, `${def.label} (${def.unit})`, now, this.guide?.chartExtras(def.key) ?? []);
     if (refit) void this.guide?.refresh(this.kept, def.key);
     this.els.nullNote.textContent = pts.length
       ? `${pts.length} carrier readings. Deepest so far: ${dbm(Math.min(...pts.map((p) => p.y)))} dBm.`
-      : 'No carrier readings kept yet: set a trimmer, wait for "steady", keep. Repeat on both sides of the dip.';
+      : '';
   }
 }
 

@@ -79,11 +79,14 @@ describe('web mode, end to end', () => {
     await page.press('#trim-A', 'Enter');
     await page.locator('#settle.steady').waitFor({ timeout: 60000 });
     await page.click('#keep');
+    // The kept readings are one tab away below the level (the trimmers and Keep stay in view).
+    await page.click('#tab-kept');
     await page.locator('#kept-rows tr').first().waitFor();
     assert.match(await page.locator('#kept-rows tr').first().innerText(), /Carrier\s+3\b/);
   });
 
   it('runs a sweep and draws the V-shaped null in the chart, every kept reading in SQLite', async () => {
+    await page.click('#tab-sweep');
     await page.fill('#sweep-from', '1');
     await page.fill('#sweep-to', '8');
     await page.fill('#sweep-steps', '8');

@@ -158,6 +158,7 @@ describe('guided alignment, end to end', () => {
   });
 
   it('draws the fitted map with every trial point and the fitted curve on the null chart', async () => {
+    await page.click('#tab-map');
     const pts = JSON.parse(
       (await page.locator('#null-map').getAttribute('data-points')) ?? '[]',
     ) as number[][];
@@ -189,6 +190,7 @@ describe('guided alignment, end to end', () => {
 
   it('guides one trimmer with the other held, with the fitted curve, its band and the next setting on the null chart', async () => {
     await page.selectOption('#guide-mode', 'B');
+    await page.click('#tab-null');
     await page.selectOption('#null-trim', 'B');
     // Afresh: the two-trimmer search just left B at the null, and whether its readings alone already call
     // for a stop is the noise's choice. From no readings the first suggestion is always a setting to try.

@@ -85,6 +85,7 @@ describe('web mode with real receivers, end to end', () => {
   });
 
   it('runs a plan with progress and shows the table and chart in dB against the tones', async () => {
+    await page.click('#tab-plan');
     await page.fill('#plan-average', '3');
     await page.fill('#plan-settle', '300');
     await page.check('#plan-points input[value=h2]');

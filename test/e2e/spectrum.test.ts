@@ -45,6 +45,7 @@ describe('live spectrum, end to end', () => {
     await page.click('#start-session');
     await page.locator('#sessions-dialog').waitFor({ state: 'detached' });
 
+    await page.click('#tab-spectrum');
     await page.click('#spectrum-start');
     await page.locator('#spectrum-levels tr').first().waitFor();
     await page.waitForFunction(() => document.querySelector('#spectrum-suppression')?.textContent !== '—');
