@@ -18,7 +18,23 @@ export function mhz(hz: number): string {
   return `${(hz / 1e6).toFixed(4)} MHz`;
 }
 
-export function when(iso: string): string {
+/**
+ * A moment in the bench's own time, with its zone so nobody mistakes it for another: "2026-03-17 20:30
+ * CET". Dates stay year-month-day whatever the locale (the sheet and the CSV use the same order).
+ */
+export function when(iso: string, timeZone?: string): string {
   const d = new Date(iso);
-  return `${d.toISOString().slice(0, 10)} ${d.toISOString().slice(11, 16)}`;
+  if (Number.isNaN(d.getTime())) return iso;
+  const parts = new Intl.DateTimeFormat('en-US', {
+    timeZone,
+    year: 'numeric',
+    month: '2-digit',
+    day: '2-digit',
+    hour: '2-digit',
+    minute: '2-digit',
+    hourCycle: 'h23',
+    timeZoneName: 'short',
+  }).formatToParts(d);
+  const p = (t: Intl.DateTimeFormatPartTypes) => parts.find((x) => x.type === t)?.value ?? '';
+  return `${p('year')}-${p('month')}-${p('day')} ${p('hour')}:${p('minute')} ${p('timeZoneName')}`;
 }

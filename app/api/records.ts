@@ -5,6 +5,7 @@ import { z } from 'zod';
 import { EMISSIONS, SUPPRESSION_REFERENCES, type Emission, type SessionFigures } from '../analysis';
 import type { ImportSummary } from '../bundle';
 import type { Comparison } from '../compare';
+import { CSV_SEPARATORS } from '../csv';
 import type { LimitSet, SetOutcome, Standing, Verdict } from '../limits';
 import { BuildDate, type Design, type Reading, type Revision, type Unit } from './schemas';
 
@@ -61,7 +62,13 @@ export const RECORD_CALLS = {
     parts: z.number().int().min(1).max(4096),
     text: z.string().max(1024 * 1024),
   }),
-  exportCsv: z.object({ designId: Id.optional(), unitId: Id.optional(), sessionId: Id.optional() }),
+  exportCsv: z.object({
+    designId: Id.optional(),
+    unitId: Id.optional(),
+    sessionId: Id.optional(),
+    /** comma with a decimal point (default), or semicolon with a decimal comma */
+    separator: z.enum(CSV_SEPARATORS).optional(),
+  }),
 } as const;
 
 export interface UnitListing extends Unit {

@@ -129,7 +129,7 @@ export class RecordCalls {
         uploads.delete(a.uploadId);
         return importBundle(store, u.parts.join(''));
       },
-      exportCsv: (a) => readingsCsv(store, a),
+      exportCsv: ({ separator, ...scope }) => readingsCsv(store, scope, separator),
     };
   }
 }

@@ -1,6 +1,6 @@
 // Runs in Node. Every stored reading (of everything, one design, one unit or one session) as CSV: one row
 // per reading, the unit of each column in its header, times in UTC ISO 8601, numbers in full precision.
-import { toCsv, type CsvValue } from '../../app/csv';
+import { toCsv, type CsvSeparator, type CsvValue } from '../../app/csv';
 import { BenchError } from '../../app/errors';
 import type { Store } from './store';
 import { connectionOf } from './connection';
@@ -39,6 +39,7 @@ interface Row {
 export function readingsCsv(
   store: Store,
   scope: CsvScope = {},
+  separator: CsvSeparator = 'comma',
 ): { csv: string; rows: number; fileName: string } {
   const given = [scope.designId, scope.unitId, scope.sessionId].filter((x) => x !== undefined).length;
   if (given > 1) throw new BenchError('EINVAL', 'give at most one of design, unit or session', 'scope');
@@ -132,7 +133,7 @@ export function readingsCsv(
         ? `design-${store.getDesign(scope.designId).name}`
         : 'all';
   return {
-    csv: toCsv(header, body),
+    csv: toCsv(header, body, { separator }),
     rows: body.length,
     fileName: `nullbench-readings-${what.replace(/[^A-Za-z0-9._-]+/g, '_')}.csv`,
   };

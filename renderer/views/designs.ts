@@ -9,7 +9,9 @@ import { when } from '../format';
 import { go, type NavDeps, type RecordsView } from '../route';
 import {
   badge,
+  csvSeparatorChoice,
   download,
+  downloadCsv,
   field,
   figureText,
   fileButton,
@@ -122,14 +124,11 @@ export class DesignsView implements RecordsView {
         {
           type: 'button',
           id: 'export-csv-all',
-          onclick: () =>
-            void api.call('exportCsv', {}).then(
-              (r) => download(r.fileName, r.csv, 'text/csv;charset=utf-8'),
-              (e: Error) => notify('error', e.message),
-            ),
+          onclick: () => downloadCsv(api, {}, (e) => notify('error', e.message)),
         },
         'All readings (CSV)',
       ),
+      csvSeparatorChoice(),
     );
     const list = h(
       'nav',
@@ -489,11 +488,7 @@ export class DesignsView implements RecordsView {
             'button',
             {
               type: 'button',
-              onclick: () =>
-                void api.call('exportCsv', { unitId }).then(
-                  (r) => download(r.fileName, r.csv, 'text/csv;charset=utf-8'),
-                  (e: Error) => (err.textContent = e.message),
-                ),
+              onclick: () => downloadCsv(api, { unitId }, (e) => (err.textContent = e.message)),
             },
             'Readings (CSV)',
           ),
@@ -646,11 +641,7 @@ export class DesignsView implements RecordsView {
           'button',
           {
             type: 'button',
-            onclick: () =>
-              void api.call('exportCsv', { sessionId }).then(
-                (x) => download(x.fileName, x.csv, 'text/csv;charset=utf-8'),
-                (e: Error) => notify('error', e.message),
-              ),
+            onclick: () => downloadCsv(api, { sessionId }, (e) => notify('error', e.message)),
           },
           'This session’s readings (CSV)',
         ),

@@ -6,6 +6,7 @@ import { K_EXPANDED, type Figure } from '../../app/analysis';
 import { BUNDLE_KINDS } from '../../app/bundle';
 import { VERDICT_LABELS, type RuleStatus } from '../../app/limits';
 import { h } from '../dom';
+import type { CsvSeparator } from '../../app/csv';
 
 export function field(label: string, input: HTMLElement, cls = ''): HTMLLabelElement {
   return h('label', { class: cls }, label, input);
@@ -90,4 +91,50 @@ export function fileButton(
     });
   });
   return h('label', { class: 'file-button', for: id }, label, input);
+}
+
+/** The CSV dialect this browser uses: the one chosen last, else the one its locale's decimal mark needs. */
+export function csvSeparator(): CsvSeparator {
+  try {
+    const saved = localStorage.getItem('nullbench.csvSeparator');
+    if (saved === 'comma' || saved === 'semicolon') return saved;
+  } catch {
+    // No storage: fall back to the locale.
+  }
+  return new Intl.NumberFormat(navigator.language).format(1.5).includes(',') ? 'semicolon' : 'comma';
+}
+
+/** The choice of CSV dialect, kept for the next export. */
+export function csvSeparatorChoice(): HTMLSelectElement {
+  const sel = h(
+    'select',
+    {
+      name: 'csv-separator',
+      'aria-label': 'CSV separator',
+      title:
+        'Semicolon-separated files with a decimal comma open right in spreadsheets set to a decimal-comma locale',
+      onchange: () => {
+        try {
+          localStorage.setItem('nullbench.csvSeparator', sel.value);
+        } catch {
+          // Not kept; this export still uses it.
+        }
+      },
+    },
+    h('option', { value: 'comma' }, 'CSV: comma, decimal point'),
+    h('option', { value: 'semicolon' }, 'CSV: semicolon, decimal comma'),
+  );
+  sel.value = csvSeparator();
+  return sel;
+}
+
+/** Downloads readings as CSV in the chosen dialect. */
+export function downloadCsv(
+  api: ServiceClient,
+  scope: { designId?: string; unitId?: string; sessionId?: string },
+  onError: (e: Error) => void,
+): void {
+  void api
+    .call('exportCsv', { ...scope, separator: csvSeparator() })
+    .then((r) => download(r.fileName, r.csv, 'text/csv;charset=utf-8'), onError);
 }

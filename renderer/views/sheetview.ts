@@ -7,7 +7,7 @@ import { STANDING_LABELS, VERIFY_CAUTION, ruleText, type LimitRule } from '../..
 import { clear, h } from '../dom';
 import { when } from '../format';
 import { go, type NavDeps, type RecordsView } from '../route';
-import { base64Bytes, download, field } from './recordsui';
+import { base64Bytes, csvSeparatorChoice, download, downloadCsv, field } from './recordsui';
 import { numberInput, readNumber } from '../numinput';
 
 const METRIC_CHOICES: { value: string; label: string }[] = [
@@ -229,14 +229,11 @@ export class SheetView implements RecordsView {
             'button',
             {
               type: 'button',
-              onclick: () =>
-                void api.call('exportCsv', { unitId: unit.id }).then(
-                  (r) => download(r.fileName, r.csv, 'text/csv;charset=utf-8'),
-                  (x: Error) => notify('error', x.message),
-                ),
+              onclick: () => downloadCsv(api, { unitId: unit.id }, (x) => notify('error', x.message)),
             },
             'Readings (CSV)',
           ),
+          csvSeparatorChoice(),
         ),
       ),
     );
@@ -251,7 +248,7 @@ export class SheetView implements RecordsView {
     const addRow = () => {
       const metric = h(
         'select',
-        { name: 'rule-metric' },
+        { name: 'rule-metric', 'aria-label': 'Figure the rule limits' },
         ...METRIC_CHOICES.map((c) => h('option', { value: c.value }, c.label)),
       );
       const value = numberInput({ name: 'rule-db', value: '40', 'aria-label': 'dB' });

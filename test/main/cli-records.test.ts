@@ -299,6 +299,33 @@ describe('nullbench records commands', () => {
       const c = await runCli(['export', '--db', other, '--csv', '--unit', 'HD40-0201', '--out', csv]);
       assert.equal(c.code, 0, c.err);
       assert.match(c.out, /^\d+ readings written to/);
+      // The same readings to standard output, and in the semicolon dialect with decimal commas for a
+      // spreadsheet set to a decimal-comma locale: the same cells, the marks swapped.
+      const out = runBin(['export', '--db', other, '--csv', '--unit', 'HD40-0201', '--out', '-']);
+      assert.equal(out.code, 0, out.err);
+      assert.equal(out.out, readFileSync(csv, 'utf8'));
+      assert.match(out.err, /^\d+ readings written to standard output/);
+      const semi = runBin([
+        'export',
+        '--db',
+        other,
+        '--csv',
+        '--unit',
+        'HD40-0201',
+        '--separator',
+        'semicolon',
+        '--out',
+        '-',
+      ]);
+      assert.equal(semi.code, 0, semi.err);
+      const [h1] = out.out.replace(/^\uFEFF/, '').split('\r\n');
+      const [h2, r2] = semi.out.replace(/^\uFEFF/, '').split('\r\n');
+      assert.match(h1, /^design,revision,unit serial,.*,"standard uncertainty \(dB, k=1\)",/);
+      assert.match(h2, /^design;revision;unit serial;.*;standard uncertainty \(dB, k=1\);/);
+      assert.match(r2, /;-?\d+,\d+;/, 'a decimal comma between semicolons');
+      const wrong = runBin(['export', '--db', other, '--csv', '--separator', 'tab', '--out', '-']);
+      assert.equal(wrong.code, 2);
+      assert.match(wrong.err, /--separator.*"tab" is not a separator; give comma or semicolon/);
     } finally {
       d.cleanup();
     }

@@ -37,6 +37,28 @@ describe('csv.toCsv()', () => {
     ]);
   });
 
+  it('writes the semicolon dialect with a decimal comma, quoting semicolons instead of commas', () => {
+    const text = toCsv(
+      ['level (dBm)', 'note'],
+      [
+        [-12.5, 'a; b'],
+        [3, 'x, y'],
+      ],
+      { bom: false, separator: 'semicolon' },
+    );
+    assert.equal(text, 'level (dBm);note\r\n-12,5;"a; b"\r\n3;x, y\r\n');
+    // Reference: Python's csv module with delimiter ";" reads the same fields back.
+    const rows = pythonJson<string[][]>(
+      'import csv,io,json,sys\nprint(json.dumps(list(csv.reader(io.StringIO(sys.stdin.read(), newline=""), delimiter=";"))))',
+      new TextEncoder().encode(text),
+    );
+    assert.deepEqual(rows, [
+      ['level (dBm)', 'note'],
+      ['-12,5', 'a; b'],
+      ['3', 'x, y'],
+    ]);
+  });
+
   it('keeps spreadsheet formulas out of text fields, never out of numbers', () => {
     assert.equal(csvField('=HYPERLINK("x")'), `"'=HYPERLINK(""x"")"`);
     assert.equal(csvField('@cmd'), "'@cmd");

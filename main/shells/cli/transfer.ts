@@ -2,13 +2,14 @@
 // benches as one JSON bundle keyed by stable IDs (merged without duplicates), or readings out as CSV.
 import { readFileSync } from 'node:fs';
 import { BUNDLE_KINDS } from '../../../app/bundle';
+import { CSV_SEPARATORS, type CsvSeparator } from '../../../app/csv';
 import { BenchError } from '../../../app/errors';
 import { parseOptions, reportError, type Command } from './command';
 import { readRecords, withRecords, writeWhole } from './records';
 
 export const exportCommand: Command = {
   name: 'export',
-  usage: `nullbench export --out FILE [--design NAME] [--csv [--unit SERIAL | --session ID]] [--db FILE]
+  usage: `nullbench export --out FILE [--design NAME] [--csv [--unit SERIAL | --session ID] [--separator S]] [--db FILE]
 
 Options:
   --out FILE        where to write (the file is written whole or not at all); - writes to standard output
@@ -16,6 +17,8 @@ Options:
   --csv             the readings as CSV (RFC 4180, one row per reading, units in the header)
   --unit SERIAL     with --csv: only this unit's readings
   --session ID      with --csv: only this session's readings
+  --separator S     with --csv: comma (decimal point, the default) or semicolon (decimal comma, for
+                    spreadsheets set to a decimal-comma locale)
   --db FILE         database (default: the user's)`,
   async run(argv, io) {
     try {
@@ -26,6 +29,7 @@ Options:
         csv: { type: 'boolean', default: false },
         unit: { type: 'string' },
         session: { type: 'string' },
+        separator: { type: 'string' },
         help: { type: 'boolean', short: 'h', default: false },
       });
       if (values.help) {
@@ -33,11 +37,21 @@ Options:
         return 0;
       }
       if (!values.out) throw new BenchError('EINVAL', 'is required', '--out');
-      if (!values.csv && (values.unit !== undefined || values.session !== undefined))
+      if (
+        !values.csv &&
+        (values.unit !== undefined || values.session !== undefined || values.separator !== undefined)
+      )
         throw new BenchError(
           'EINVAL',
           'only with --csv (a bundle holds whole designs)',
-          values.unit !== undefined ? '--unit' : '--session',
+          values.unit !== undefined ? '--unit' : values.session !== undefined ? '--session' : '--separator',
+        );
+      const separator = values.separator;
+      if (separator !== undefined && !(CSV_SEPARATORS as readonly string[]).includes(separator))
+        throw new BenchError(
+          'EINVAL',
+          `"${separator}" is not a separator; give ${CSV_SEPARATORS.join(' or ')}`,
+          '--separator',
         );
       await readRecords(values.db, async ({ service, records }) => {
         const designId =
@@ -45,7 +59,12 @@ Options:
         if (values.csv) {
           const unitId =
             values.unit !== undefined ? records.unitBySerial(values.unit.trim(), '--unit').id : undefined;
-          const r = await service.invoke('exportCsv', { designId, unitId, sessionId: values.session });
+          const r = await service.invoke('exportCsv', {
+            designId,
+            unitId,
+            sessionId: values.session,
+            separator: separator as CsvSeparator | undefined,
+          });
           if (values.out === '-') {
             io.out(r.csv);
             io.err(`${r.rows} readings written to standard output\n`);
