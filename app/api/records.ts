@@ -6,6 +6,7 @@ import { EMISSIONS, SUPPRESSION_REFERENCES, type Emission, type SessionFigures }
 import type { ImportSummary } from '../bundle';
 import type { Comparison } from '../compare';
 import { CSV_SEPARATORS } from '../csv';
+import { PAPERS } from '../paper';
 import type { LimitSet, SetOutcome, Standing, Verdict } from '../limits';
 import { BuildDate, type Design, type Reading, type Revision, type Unit } from './schemas';
 
@@ -45,9 +46,9 @@ export const RECORD_CALLS = {
     notes: Text.optional(),
   }),
   /** The unit's test sheet as HTML (the desktop shell prints it with its own print-to-PDF). */
-  sheetHtml: z.object({ unitId: Id, sessionId: Id.optional() }),
+  sheetHtml: z.object({ unitId: Id, sessionId: Id.optional(), paper: z.enum(PAPERS).optional() }),
   /** The unit's test sheet as PDF, rendered by headless Chromium (web mode) or the desktop shell. */
-  sheetPdf: z.object({ unitId: Id, sessionId: Id.optional() }),
+  sheetPdf: z.object({ unitId: Id, sessionId: Id.optional(), paper: z.enum(PAPERS).optional() }),
   exportBundle: z.object({ designId: Id.optional() }),
   /** A bundle's text as read from the file: parsed, validated and merged in one transaction. */
   importBundle: z.object({ text: z.string().max(200 * 1024 * 1024) }),

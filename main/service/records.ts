@@ -63,11 +63,14 @@ export class RecordCalls {
       sheetSettings: (a) => rec.sheetSettings(a.unitId),
       saveSheetSettings: (a) => rec.saveSheetSettings(a),
       sheetHtml: (a) => {
-        const { model: _model, ...rest } = renderSheet(store, a.unitId, { sessionId: a.sessionId });
+        const { model: _model, ...rest } = renderSheet(store, a.unitId, {
+          sessionId: a.sessionId,
+          paper: a.paper,
+        });
         return rest;
       },
       sheetPdf: async (a) => {
-        const r = await sheetPdf(store, a.unitId, { sessionId: a.sessionId }, pdf());
+        const r = await sheetPdf(store, a.unitId, { sessionId: a.sessionId, paper: a.paper }, pdf());
         return {
           base64: Buffer.from(r.pdf).toString('base64'),
           fileName: r.fileName,

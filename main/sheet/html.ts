@@ -196,6 +196,6 @@ export function sheetDocument(m: SheetModel): string {
   return `<!doctype html>
 <html lang="en"><head><meta charset="utf-8"/><title>${esc(m.title)}</title>
 <style>${sheetCss()}</style></head>
-<body class="sheet-print">${sheetFragment(m)}</body></html>
+<body class="sheet-print paper-${m.paper}">${sheetFragment(m)}</body></html>
 `;
 }

@@ -25,6 +25,7 @@ import { loadSessionResult, sessionsWithResults, type SessionResult } from './re
 import { RF_CAUTION } from '../../app/caution';
 import type { Store } from '../store/store';
 import type { NullSeries, PlanLine, PlanPoint } from './svg';
+import type { Paper } from '../../app/paper';
 
 export interface SheetOptions {
   /** report this session instead of the one in the unit's sheet settings (or the latest) */
@@ -34,6 +35,8 @@ export interface SheetOptions {
   /** the date printed as the issue date (tests fix it), ISO 8601 */
   issuedAt?: string;
   notes?: string;
+  /** the paper it is printed on (default A4) */
+  paper?: Paper;
 }
 
 export interface FigureRow {
@@ -65,6 +68,7 @@ export interface PointRow {
 
 export interface SheetModel {
   title: string;
+  paper: Paper;
   /** a stable reference for this sheet: serial, session date and the session id's first characters */
   sheetRef: string;
   issuedAt: string;
@@ -369,6 +373,7 @@ export function buildSheet(store: Store, unitId: string, opts: SheetOptions = {}
     title: `Test sheet — ${unit.serial}`,
     sheetRef,
     issuedAt: opts.issuedAt ?? new Date().toISOString(),
+    paper: opts.paper ?? 'a4',
     fileName: `nullbench-sheet-${unit.serial.replace(/[^A-Za-z0-9._-]+/g, '_')}-${started}.pdf`,
     identity: {
       serial: unit.serial,

@@ -9,6 +9,7 @@ import { when } from '../format';
 import { go, type NavDeps, type RecordsView } from '../route';
 import { base64Bytes, csvSeparatorChoice, download, downloadCsv, field } from './recordsui';
 import { numberInput, readNumber } from '../numinput';
+import { PAPERS, PAPER_LABELS, paperForLocale, type Paper } from '../../app/paper';
 
 const METRIC_CHOICES: { value: string; label: string }[] = [
   { value: 'carrier:pep', label: 'Carrier, dB below PEP (at least)' },
@@ -145,6 +146,24 @@ export class SheetView implements RecordsView {
         h('span', {}, s.name, ' ', h('span', { class: 'tag' }, STANDING_LABELS[s.standing])),
       ),
     );
+    // The paper: chosen per sheet, kept per browser, the first time from the browser's locale.
+    const paper = h(
+      'select',
+      {
+        name: 'sheet-paper',
+        onchange: () => {
+          try {
+            localStorage.setItem('nullbench.paper', paper.value);
+          } catch {
+            // Not kept; this sheet still uses it.
+          }
+          document.body.classList.toggle('paper-letter', paper.value === 'letter');
+        },
+      },
+      ...PAPERS.map((p) => h('option', { value: p }, PAPER_LABELS[p])),
+    );
+    paper.value = savedPaper();
+    document.body.classList.toggle('paper-letter', paper.value === 'letter');
     const save = async () => {
       await api.call('saveSheetSettings', {
         unitId: unit.id,
@@ -186,6 +205,7 @@ export class SheetView implements RecordsView {
         'section',
         { class: 'card' },
         h('h2', {}, 'Print or save'),
+        field('Paper', paper),
         h(
           'div',
           { class: 'row' },
@@ -212,7 +232,11 @@ export class SheetView implements RecordsView {
                 b.disabled = true;
                 b.textContent = 'Making the PDF…';
                 void api
-                  .call('sheetPdf', { unitId: unit.id, sessionId: session.value || undefined })
+                  .call('sheetPdf', {
+                    unitId: unit.id,
+                    sessionId: session.value || undefined,
+                    paper: paper.value as Paper,
+                  })
                   .then(
                     (r) => download(r.fileName, base64Bytes(r.base64), 'application/pdf'),
                     (x: Error) => notify('error', x.message),
@@ -348,4 +372,15 @@ export class SheetView implements RecordsView {
       ),
     );
   }
+}
+
+/** The paper this browser printed on last, else the one its locale uses. */
+function savedPaper(): Paper {
+  try {
+    const p = localStorage.getItem('nullbench.paper');
+    if (p === 'a4' || p === 'letter') return p;
+  } catch {
+    // No storage: the locale decides.
+  }
+  return paperForLocale(navigator.language);
 }

@@ -3,6 +3,7 @@
 import { SUPPRESSION_REFERENCES, type SuppressionReference } from '../../../app/analysis';
 import { BenchError } from '../../../app/errors';
 import { VERDICT_LABELS } from '../../../app/limits';
+import { PAPERS, paperForLocale, type Paper } from '../../../app/paper';
 import { renderSheet, sheetPdf } from '../../sheet';
 import { parseOptions, reportError, type Command } from './command';
 import { readRecords, writeWhole } from './records';
@@ -19,6 +20,7 @@ Options:
   --limits IDS        limit sets, comma-separated ids (see nullbench limits; default: the unit's sheet
                       settings, else common practice and 47 CFR 97.307(d))
   --reference REF     what carrier suppression is stated against: pep, tone or unbalanced
+  --paper SIZE        a4 or letter (US Letter); default from the locale (LC_ALL, LC_PAPER, LANG)
   --json              print the summary as JSON
 Chromium is found at /usr/bin/chromium or CHROMIUM_PATH.`,
   async run(argv, io) {
@@ -30,6 +32,7 @@ Chromium is found at /usr/bin/chromium or CHROMIUM_PATH.`,
         session: { type: 'string' },
         limits: { type: 'string' },
         reference: { type: 'string' },
+        paper: { type: 'string' },
         json: { type: 'boolean', default: false },
         help: { type: 'boolean', short: 'h', default: false },
       });
@@ -47,10 +50,14 @@ Chromium is found at /usr/bin/chromium or CHROMIUM_PATH.`,
         !SUPPRESSION_REFERENCES.includes(values.reference as SuppressionReference)
       )
         throw new BenchError('EINVAL', `must be one of ${SUPPRESSION_REFERENCES.join(', ')}`, '--reference');
+      if (values.paper !== undefined && !(PAPERS as readonly string[]).includes(values.paper.toLowerCase()))
+        throw new BenchError('EINVAL', `"${values.paper}" is no paper size; give a4 or letter`, '--paper');
+      const paper = (values.paper?.toLowerCase() as Paper | undefined) ?? paperFromEnvironment();
       await readRecords(values.db, async ({ store, records }) => {
         const unit = records.unitBySerial(values.unit!.trim(), '--unit');
         const opts = {
           sessionId: values.session,
+          paper,
           reference: values.reference as SuppressionReference | undefined,
           limitSetIds: values.limits
             ?.split(',')
@@ -75,6 +82,7 @@ Chromium is found at /usr/bin/chromium or CHROMIUM_PATH.`,
           session: model.session.id,
           measured: model.session.startedAt,
           reference: model.reference,
+          paper: model.paper,
           overall: model.overall,
           // Numbers for scripts (dB, expanded uncertainty k = 2, the kind of figure), the text beside them.
           figures: model.figures.map((f) => ({
@@ -107,3 +115,8 @@ Chromium is found at /usr/bin/chromium or CHROMIUM_PATH.`,
     }
   },
 };
+
+/** The paper the locale asks for: the first of LC_ALL, LC_PAPER and LANG that is set, as POSIX orders them. */
+export function paperFromEnvironment(env: NodeJS.ProcessEnv = process.env): Paper {
+  return paperForLocale([env.LC_ALL, env.LC_PAPER, env.LANG].find((v) => v !== undefined && v !== ''));
+}
