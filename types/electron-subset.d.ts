@@ -13,7 +13,23 @@ declare module 'electron' {
     spellcheck?: boolean;
     javascript?: boolean;
   }
+  export interface Rectangle {
+    x: number;
+    y: number;
+    width: number;
+    height: number;
+  }
+  export interface Display {
+    id: number;
+    bounds: Rectangle;
+    workArea: Rectangle;
+  }
+  export const screen: {
+    getAllDisplays(): Display[];
+  };
   export interface BrowserWindowConstructorOptions {
+    x?: number;
+    y?: number;
     width?: number;
     height?: number;
     minWidth?: number;
@@ -47,7 +63,15 @@ declare module 'electron' {
     loadURL(url: string): Promise<void>;
     destroy(): void;
     once(event: 'ready-to-show', listener: () => void): this;
+    on(event: 'resize' | 'move' | 'maximize' | 'unmaximize' | 'close', listener: () => void): this;
     show(): void;
+    focus(): void;
+    restore(): void;
+    maximize(): void;
+    isMinimized(): boolean;
+    isMaximized(): boolean;
+    isDestroyed(): boolean;
+    getNormalBounds(): Rectangle;
     static getAllWindows(): BrowserWindow[];
   }
   export interface IpcMainInvokeEvent {
@@ -62,9 +86,13 @@ declare module 'electron' {
   };
   export const app: {
     whenReady(): Promise<void>;
-    on(event: 'window-all-closed' | 'activate' | 'before-quit', listener: () => void): void;
+    on(
+      event: 'window-all-closed' | 'activate' | 'before-quit' | 'second-instance',
+      listener: () => void,
+    ): void;
     on(event: 'web-contents-created', listener: (event: Event, contents: WebContents) => void): void;
     quit(): void;
+    requestSingleInstanceLock(): boolean;
     getPath(name: 'userData'): string;
     enableSandbox(): void;
   };

@@ -34,7 +34,21 @@ export const RECEIVER_CALLS = {
     name: z.string().trim().min(1).max(120).optional(),
     save: z.boolean().default(false),
   }),
+  /** The serial ports of the machine the service runs on, stable /dev/serial/by-id names first. */
+  listSerialPorts: z.object({}),
 } as const;
+
+/** A serial port to offer for a receiver's link. */
+export interface SerialPortEntry {
+  /** The path to put in serial:PATH@BAUD: the by-id name where the device has one. */
+  path: string;
+  /** The device it is today (the by-id link's target, e.g. /dev/ttyUSB0; the path itself otherwise). */
+  device: string;
+  /** True for a /dev/serial/by-id name (the same whichever ttyUSB number the adapter gets). */
+  stable: boolean;
+  /** For people: the device, what it is, and its USB vendor:product where known. */
+  label: string;
+}
 
 export interface TemplateEntry {
   template: SerialTemplate;
@@ -68,4 +82,5 @@ export interface ReceiverCallResults {
   deleteReceiver: null;
   calibrationRead: CalibrationReadResult;
   fitCalibration: FitResult;
+  listSerialPorts: SerialPortEntry[];
 }

@@ -13,6 +13,7 @@ import { calibrationFor, InjectionSchema, mergeBand } from '../../app/receiver';
 import { validateTemplate, type SerialTemplate } from '../../app/serialtemplate';
 import { benchErrorFromZod } from '../../app/zodissue';
 import { findDriver, takesTemplate, templateNameInSpec } from '../sources';
+import { listSerialPorts } from '../sources/serialports';
 import type { LevelSource, SourceEnv } from '../sources/types';
 import { ReceiverRepo } from '../store/receivers';
 import type { GroupHandlers, ServiceContext } from './handlers';
@@ -157,6 +158,7 @@ export class ReceiverCalls {
       },
       calibrationRead: (a) => this.calibrationRead(a.receiverId, a.freqHz, a.count),
       fitCalibration: (a) => this.fitCalibration(a.receiverId, a.injections, a.name, a.save),
+      listSerialPorts: () => listSerialPorts(),
     };
   }
 }

@@ -119,11 +119,23 @@ export async function showReceiversDialog(api: ServiceClient, notify: Notify): P
       { type: 'submit', class: 'primary', id: 'rx-save' },
       s ? 'Save changes' : 'Add receiver',
     );
+    // The machine's serial ports (stable by-id names first) offered in the link field; any path may be typed.
+    const ports = h('datalist', { id: 'rx-ports' });
+    source.setAttribute('list', 'rx-ports');
+    void api
+      .call('listSerialPorts', {})
+      .then((list) => {
+        const chosen = state.templates.find((t) => t.template.name === template.value)?.template.defaultBaud;
+        const baud = /^serial:.*@(\d+)/.exec(source.value)?.[1] ?? String(chosen ?? 9600);
+        ports.append(...list.map((p) => h('option', { value: `serial:${p.path}@${baud}` }, p.label)));
+      })
+      .catch(() => ports.remove());
     const form = h(
       'form',
       { class: 'form', id: 'rx-form' },
       field('Name', name),
       field('Link (source)', source, 'two-col'),
+      ports,
       field('Serial command set', template),
       field('Bandwidth (Hz)', bw),
       field('Rated max input (dBm)', maxIn),

@@ -3,12 +3,17 @@
 import type { BrowserWindowConstructorOptions } from 'electron';
 import { join } from 'node:path';
 
-export function windowOptions(preloadDir: string): BrowserWindowConstructorOptions {
+/** The window's size on first start, and the least it may be made. */
+export const WINDOW_SIZE = { width: 1360, height: 900, minWidth: 960, minHeight: 640 };
+
+/** The window's options; `bounds` is the kept size and place (winstate.ts), else the first-start size. */
+export function windowOptions(
+  preloadDir: string,
+  bounds?: { x?: number; y?: number; width: number; height: number },
+): BrowserWindowConstructorOptions {
   return {
-    width: 1360,
-    height: 900,
-    minWidth: 960,
-    minHeight: 640,
+    ...WINDOW_SIZE,
+    ...bounds,
     title: 'Nullbench',
     backgroundColor: '#0e1d23',
     show: false,

@@ -10,9 +10,10 @@ export const electronPdf: PdfRenderer = async (html, footer) => {
   });
   try {
     await win.loadURL(`data:text/html;charset=utf-8,${encodeURIComponent(html)}`);
+    // The paper size and margins are the sheet's own @page rule (A4 or US Letter), as in the CLI's print.
     const pdf = await win.webContents.printToPDF({
-      pageSize: 'A4',
       printBackground: true,
+      margins: { top: 0, bottom: 0, left: 0, right: 0 },
       preferCSSPageSize: true,
       displayHeaderFooter: true,
       headerTemplate: '<div></div>',

@@ -3,6 +3,7 @@
 // sandbox for every renderer, no navigation, no new windows, no webviews, no permissions, IPC only from our
 // own page and only with arguments that pass the envelope schema here and the call's schema in the service.
 import type { BrowserWindowConstructorOptions, Event, IpcMainInvokeEvent, WebContents } from 'electron';
+import { join } from 'node:path';
 import { z } from 'zod';
 import { EVENTS } from '../../../app/api';
 import { BenchError } from '../../../app/errors';
@@ -10,17 +11,28 @@ import { benchErrorFromZod } from '../../../app/zodissue';
 import type { Service } from '../../service';
 import { toFailure } from '../../../app/errors';
 import { CALL_CHANNEL, EVENT_CHANNEL_PREFIX } from './channels';
-import { isTrustedSenderUrl, windowOptions } from './config';
+import { isTrustedSenderUrl, WINDOW_SIZE, windowOptions } from './config';
+import {
+  placeWindow,
+  readWindowState,
+  STATE_FILE_NAME,
+  stateSaver,
+  type Rect,
+  type Timers,
+} from './winstate';
 
 /** The parts of Electron the shell uses, structurally (the real module satisfies it; so does a fake). */
 export interface ElectronApi {
   app: {
     enableSandbox(): void;
     whenReady(): Promise<void>;
-    on(event: 'window-all-closed', listener: () => void): void;
+    on(event: 'window-all-closed' | 'second-instance', listener: () => void): void;
     on(event: 'web-contents-created', listener: (event: Event, contents: WebContents) => void): void;
     quit(): void;
+    requestSingleInstanceLock(): boolean;
+    getPath(name: 'userData'): string;
   };
+  screen: { getAllDisplays(): { workArea: Rect }[] };
   BrowserWindow: new (options?: BrowserWindowConstructorOptions) => WindowLike;
   ipcMain: {
     handle(
@@ -43,7 +55,15 @@ export interface WindowLike {
   webContents: WebContents;
   loadFile(path: string): Promise<void>;
   once(event: 'ready-to-show', listener: () => void): unknown;
+  on(event: 'resize' | 'move' | 'maximize' | 'unmaximize' | 'close', listener: () => void): unknown;
   show(): void;
+  focus(): void;
+  restore(): void;
+  maximize(): void;
+  isMinimized(): boolean;
+  isMaximized(): boolean;
+  isDestroyed(): boolean;
+  getNormalBounds(): Rect;
 }
 
 export interface DesktopOptions {
@@ -54,6 +74,10 @@ export interface DesktopOptions {
   preloadDir: string;
   /** Opens the database and the service; null (after telling the user) when that is impossible. */
   open(): { service: Service; close(): void } | null;
+  /** Where the window's size and place are kept (default: window-state.json in the user's data folder). */
+  stateFile?: string;
+  /** Timers of the state saver (tests pass their own). */
+  timers?: Timers;
 }
 
 /** What crosses the call channel: a call name (letters only, as in app/api CALLS) and one argument. */
@@ -108,9 +132,24 @@ export function registerCalls(
   });
 }
 
-/** Starts the desktop shell on the given Electron API. Resolves once the window is loading. */
+/**
+ * Starts the desktop shell on the given Electron API. Resolves once the window is loading, or with null when
+ * another instance already runs (it is brought to the front instead: two instances would share one database
+ * and one serial port) or the database cannot be opened.
+ */
 export async function startDesktop(e: ElectronApi, opts: DesktopOptions): Promise<WindowLike | null> {
   hardenApp(e);
+  if (!e.app.requestSingleInstanceLock()) {
+    e.app.quit();
+    return null;
+  }
+  let win: WindowLike | null = null;
+  e.app.on('second-instance', () => {
+    if (!win || win.isDestroyed()) return;
+    if (win.isMinimized()) win.restore();
+    win.show();
+    win.focus();
+  });
   await e.app.whenReady();
   denyPermissions(e);
   const opened = opts.open();
@@ -119,9 +158,16 @@ export async function startDesktop(e: ElectronApi, opts: DesktopOptions): Promis
     return null;
   }
   const { service } = opened;
-  let win: WindowLike | null = null;
   registerCalls(e, service, opts.indexUrl, () => win?.webContents ?? null);
-  win = new e.BrowserWindow(windowOptions(opts.preloadDir));
+  const stateFile = opts.stateFile ?? join(e.app.getPath('userData'), STATE_FILE_NAME);
+  const kept = readWindowState(stateFile);
+  if (kept.problem) console.warn(`window size and place not restored: ${kept.problem}`);
+  const placed = placeWindow(
+    kept.state,
+    e.screen.getAllDisplays().map((d) => d.workArea),
+    WINDOW_SIZE,
+  );
+  win = new e.BrowserWindow(windowOptions(opts.preloadDir, kept.state ? placed.bounds : undefined));
   const contents = win.webContents;
   for (const ev of EVENTS) {
     service.listen(ev, (payload) => {
@@ -129,7 +175,14 @@ export async function startDesktop(e: ElectronApi, opts: DesktopOptions): Promis
     });
   }
   const shown = win;
-  win.once('ready-to-show', () => shown.show());
+  const saver = stateSaver(
+    stateFile,
+    () => (shown.isDestroyed() ? null : { ...shown.getNormalBounds(), maximized: shown.isMaximized() }),
+    { timers: opts.timers, onError: (err) => console.warn(`window size and place not kept: ${err.message}`) },
+  );
+  for (const ev of ['resize', 'move', 'maximize', 'unmaximize'] as const) win.on(ev, () => saver.changed());
+  win.on('close', () => saver.flush());
+  win.once('ready-to-show', () => (placed.maximized ? shown.maximize() : shown.show()));
   void win.loadFile(opts.indexFile);
   e.app.on('window-all-closed', () => {
     void service.close().finally(() => {
