@@ -3,7 +3,7 @@
 import type { Session, Status } from '../app/api';
 import { connect } from './api';
 import { $, h } from './dom';
-import { BenchView } from './views/bench';
+import { BenchView, readingRule } from './views/bench';
 import { showReceiversDialog } from './views/receivers';
 import { showSessionsDialog } from './views/sessions';
 import { mountNav } from './views/nav';
@@ -48,6 +48,8 @@ function showLink(s: Status): void {
   }
   // A session can be ended while it is open and not ended yet; an ended one offers a new one like it.
   $('#btn-end-session').hidden = !s.activeSessionId || s.sessionEnded;
+  $('#btn-end-session').title =
+    `Stop reading and close this session for good; its readings stay. ${readingRule(s.unattendedStopS)}`;
   const banner = $('#ended-banner');
   banner.hidden = !s.activeSessionId || !s.sessionEnded;
   // The banner's text is fetched once per ended session, not on every status event.
@@ -57,7 +59,7 @@ function showLink(s: Status): void {
       (x) =>
         ($('#ended-text').textContent =
           `This session ended ${x.endedAt ? when(x.endedAt) : ''}. Its readings are shown; nothing new is ` +
-          'stored in it.'),
+          'stored in it unless you continue it. For a new sitting, start a new session like it.'),
       () => undefined,
     );
   }
@@ -109,6 +111,22 @@ $('#btn-repeat-session').addEventListener('click', () => {
   if (!id) return;
   void api.call('repeatSession', { sessionId: id }).then(
     (s) => void opened(s),
+    (e: Error) => notify('error', e.message),
+  );
+});
+
+$('#btn-continue-session').addEventListener('click', () => {
+  const id = $('#ended-banner').dataset.session;
+  if (!id) return;
+  void api.call('continueSession', { sessionId: id }).then(
+    (s) => {
+      delete $('#ended-banner').dataset.session;
+      notify(
+        'info',
+        'Session continued: new readings join it, and its notes say when it was taken up again.',
+      );
+      return opened(s);
+    },
     (e: Error) => notify('error', e.message),
   );
 });

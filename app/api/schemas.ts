@@ -259,6 +259,15 @@ export const StatusSchema = z.object({
   trims: TrimPositionsSchema,
   lastError: z.string().nullable(),
   /**
+   * The rule by which this bench stops reading on its own: after this many seconds with no window open on
+   * it (web mode), so an unattended server does not store readings for nobody. Null where the owner is the
+   * window or the process itself (desktop: closing the window ends the app; CLI: the command runs as long
+   * as it is asked to).
+   */
+  unattendedStopS: z.number().nullable(),
+  /** Reading was stopped by that rule; the next call from a window resumes the session. */
+  pausedSessionId: Id.nullable(),
+  /**
    * What the open session's source can do, as its driver declares it (main/sources): the renderer reads
    * this, never the spec string. Null with no session open.
    */

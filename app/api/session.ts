@@ -33,6 +33,15 @@ export const SESSION_CALLS = {
   closeSession: z.object({}),
   /** End the open session for good: stop reading and record its end. Its readings stay. */
   endSession: z.object({}),
+  /**
+   * Take an ended session up again and open it for reading: new readings join it, and its notes record
+   * when it had ended and when it was continued.
+   */
+  continueSession: SessionRef,
+  /**
+   * End a session by its id, from outside the bench (the CLI): refused while a running program reads it.
+   */
+  endSessionById: SessionRef,
   /** Start (and open) a new session with the set-up of an earlier one: same unit, receiver, path and power. */
   repeatSession: SessionRef,
   /** Tune the receiver to one of the session's points. */
@@ -95,6 +104,8 @@ export interface SessionCallResults {
   openSession: Session;
   closeSession: null;
   endSession: Session;
+  continueSession: Session;
+  endSessionById: Session;
   repeatSession: Session;
   tune: Status;
   setTrims: Status;

@@ -18,6 +18,7 @@ export type GroupHandlers<K extends CallName> = Pick<Handlers, K>;
 export interface ServiceContext {
   store: Store;
   mode: Status['mode'];
+  unattendedStopS: number | null;
   liveOptions: LiveOptions;
   makeSource: (spec: string, env?: SourceEnv) => LevelSource;
   pdf: () => PdfRenderer;
@@ -37,6 +38,8 @@ export interface ServiceOptions {
   pdf?: PdfRenderer;
   /** Where start, stop, faults, notices and failed calls are recorded (default: the data folder's). */
   supportLog?: SupportLog;
+  /** The unattended-stop rule the shell keeps (web mode), stated in the status; null elsewhere. */
+  unattendedStopS?: number | null;
 }
 
 /** In-process typed call: throws the BenchError a failed call carries. */

@@ -51,6 +51,7 @@ export class Service {
     const ctx: ServiceContext = {
       store: opts.store,
       mode: opts.mode,
+      unattendedStopS: opts.unattendedStopS ?? null,
       liveOptions: opts.live ?? {},
       makeSource: opts.createSource ?? createSource,
       pdf: () => pdf,

@@ -72,6 +72,14 @@ export class SessionCalls {
       openSession: (a) => this.open(a.sessionId),
       closeSession: () => this.close(),
       endSession: () => this.end(),
+      continueSession: async (a) => {
+        const s = this.ctx.store.getSession(a.sessionId);
+        if (s.endedAt === null)
+          throw new BenchError('ECONFLICT', 'this session has not ended: open it instead', 'sessionId');
+        this.ctx.store.continueSession(a.sessionId);
+        return this.open(a.sessionId);
+      },
+      endSessionById: (a) => this.endById(a.sessionId),
       repeatSession: (a) => this.repeat(a.sessionId),
       tune: async (a) => {
         const refusal = this.hooks.tuneRefusal();
@@ -108,6 +116,8 @@ export class SessionCalls {
       tunedRole: l?.role ?? null,
       trims: l?.trims ?? {},
       lastError: l?.lastError ?? null,
+      unattendedStopS: this.ctx.unattendedStopS,
+      pausedSessionId: this.paused,
       sourceCaps: l
         ? {
             tune: l.source.caps.tune,
@@ -155,6 +165,8 @@ export class SessionCalls {
   }
 
   async open(id: string): Promise<Session> {
+    // A session opened by hand replaces whatever the unattended-stop rule was keeping to resume.
+    this.paused = null;
     const { store, emit } = this.ctx;
     const session = store.getSession(id);
     await this.close();
@@ -236,6 +248,37 @@ export class SessionCalls {
     });
   }
 
+  /** The session whose reading the unattended-stop rule stopped, until a window comes back. */
+  private paused: string | null = null;
+
+  /**
+   * The unattended-stop rule: reading stops (the session stays open, nothing is ended) and the session is
+   * remembered, so the next window resumes it. True when something was reading.
+   */
+  async pauseUnattended(): Promise<boolean> {
+    const l = this.live;
+    if (!l) return false;
+    const id = l.session.id;
+    await this.close();
+    this.paused = id;
+    this.ctx.emit('status', this.status());
+    return true;
+  }
+
+  /** A window is back: the session the rule stopped reads again. Null when nothing was paused. */
+  async resumeUnattended(): Promise<string | null> {
+    const id = this.paused;
+    if (!id || this.live) return (this.paused = null);
+    this.paused = null;
+    await this.open(id);
+    this.ctx.emit('notice', {
+      level: 'info',
+      code: 'RESUMED',
+      message: `Reading resumed: it had stopped after ${this.ctx.unattendedStopS} s with no window open; nothing was stored meanwhile.`,
+    });
+    return id;
+  }
+
   async close(): Promise<null> {
     await this.hooks.beforeClose();
     const l = this.live;
@@ -255,6 +298,24 @@ export class SessionCalls {
     const id = this.live?.session.id ?? this.reviewing?.id;
     if (!id) throw new BenchError('ECONFLICT', 'no session is open: there is nothing to end', 'session');
     await this.close();
+    this.ctx.store.endSession(id);
+    return this.ctx.store.getSession(id);
+  }
+
+  /** Ends a session by id: this service's own open one through end(), another only if nobody reads it. */
+  private async endById(id: string): Promise<Session> {
+    const s = this.ctx.store.getSession(id);
+    if (s.endedAt !== null)
+      throw new BenchError('ECONFLICT', `this session already ended ${s.endedAt}`, 'sessionId');
+    if (this.live?.session.id === id || this.reviewing?.id === id) return this.end();
+    const leases = new LeaseRepo(this.ctx.store);
+    const holder = leases.holder(id);
+    if (holder && leases.alive(holder))
+      throw new BenchError(
+        'ECONFLICT',
+        `${describeHolder(holder)} is reading this session: end it there`,
+        'sessionId',
+      );
     this.ctx.store.endSession(id);
     return this.ctx.store.getSession(id);
   }

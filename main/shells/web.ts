@@ -108,6 +108,8 @@ export class WebShell {
   private readonly root: string;
   private clients = new Set<ServerResponse>();
   private unsubs: (() => void)[] = [];
+  /** Runs out after the unattended-stop time with no window on the event stream (status.unattendedStopS). */
+  private unattended: NodeJS.Timeout | null = null;
 
   constructor(opts: WebOptions) {
     this.opts = {
@@ -160,8 +162,28 @@ export class WebShell {
   listen(): Promise<string> {
     return new Promise((ok, bad) => {
       this.server.once('error', bad);
-      this.server.listen(this.opts.port, this.opts.host, () => ok(this.url));
+      this.server.listen(this.opts.port, this.opts.host, () => {
+        this.armUnattended();
+        ok(this.url);
+      });
     });
+  }
+
+  /**
+   * The unattended-stop rule: with no window on the event stream for the stated time, reading stops and
+   * the session is kept to resume (main/service/session.ts pauseUnattended). A window that connects
+   * disarms it.
+   */
+  private armUnattended(): void {
+    if (this.unattended) clearTimeout(this.unattended);
+    this.unattended = null;
+    const s = this.opts.service.status().unattendedStopS;
+    if (s === null || this.clients.size > 0) return;
+    this.unattended = setTimeout(() => {
+      this.unattended = null;
+      if (this.clients.size === 0) void this.opts.service.session.pauseUnattended().catch(() => undefined);
+    }, s * 1000);
+    this.unattended.unref();
   }
 
   get port(): number {
@@ -176,6 +198,8 @@ export class WebShell {
 
   async close(): Promise<void> {
     this.unsubs.forEach((u) => u());
+    if (this.unattended) clearTimeout(this.unattended);
+    this.unattended = null;
     if (this.heartbeat) clearInterval(this.heartbeat);
     this.heartbeat = null;
     for (const c of this.clients) c.end();
@@ -277,6 +301,9 @@ export class WebShell {
       } catch {
         return fail(res, 400, 'EINVAL', 'malformed call name');
       }
+      // A window is back after the unattended-stop rule stopped reading: the session reads again first.
+      if (this.opts.service.status().pausedSessionId)
+        await this.opts.service.session.resumeUnattended().catch(() => undefined);
       const result = await this.opts.service.call(name, args);
       return send(res, 200, JSON.stringify(result));
     }
@@ -291,7 +318,11 @@ export class WebShell {
         `retry: ${RETRY_MS}\n\nevent: status\ndata: ${JSON.stringify(this.opts.service.status())}\n\n`,
       );
       this.clients.add(res);
-      req.on('close', () => this.clients.delete(res));
+      this.armUnattended();
+      req.on('close', () => {
+        this.clients.delete(res);
+        this.armUnattended();
+      });
       if (!this.heartbeat) {
         this.heartbeat = setInterval(() => this.broadcast(': alive\n\n'), HEARTBEAT_MS);
         this.heartbeat.unref();

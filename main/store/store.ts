@@ -383,6 +383,22 @@ export class Store implements ReadingSink {
     this.db.prepare('UPDATE sessions SET ended_at = ? WHERE id = ? AND ended_at IS NULL').run(at, id);
   }
 
+  /**
+   * Takes an ended session up again, knowingly: its end is cleared, and its notes record when it had ended
+   * and when it was continued, so the sheet and every export still tell the two sittings apart.
+   */
+  continueSession(id: string, at = now()): void {
+    const s = this.getSession(id);
+    if (s.endedAt === null) return;
+    const line = `Continued ${at.slice(0, 16).replace('T', ' ')} UTC after it had ended ${s.endedAt.slice(0, 16).replace('T', ' ')} UTC.`;
+    this.db
+      .prepare(
+        `UPDATE sessions SET ended_at = NULL, notes = CASE WHEN notes = '' THEN ? ELSE notes || char(10) || ? END
+         WHERE id = ? AND ended_at IS NOT NULL`,
+      )
+      .run(line, line, id);
+  }
+
   listSessions(unitId?: string): SessionSummary[] {
     const rows = this.db
       .prepare(

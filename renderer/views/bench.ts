@@ -370,6 +370,7 @@ export class BenchView {
         { class: 'hint' },
         `Path: ${formatPath(validatePath(s.path))}; receiver input at PEP ${dbm(s.rxPepDbm)} dBm`,
       ),
+      h('p', { class: 'hint', id: 'reading-rule' }, readingRule(this.status?.unattendedStopS ?? null)),
     );
 
     this.guide = new GuidePanel(this.api, s, this.notify, {
@@ -544,4 +545,12 @@ export class BenchView {
 function round(x: number, d: number): number {
   const f = 10 ** d;
   return Math.round(x * f) / f;
+}
+
+/** When this bench stops reading, as the status states the rule. */
+export function readingRule(unattendedStopS: number | null): string {
+  return unattendedStopS === null
+    ? 'Reading stops when you end the session or close the app.'
+    : `Reading stops when you end the session, or after ${unattendedStopS} s with no window open on this bench; ` +
+        'the session then stays open and reads again as soon as a window opens.';
 }

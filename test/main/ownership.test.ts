@@ -254,4 +254,53 @@ describe('a session that has ended', () => {
       await t.cleanup();
     }
   });
+
+  it('continues an ended session only when asked, and its notes record both sittings', async () => {
+    const t = await serviceWithSession();
+    try {
+      await t.service.invoke('openSession', { sessionId: t.session.id });
+      await until(() => t.store.readings(t.session.id, { limit: 3 }).length >= 3, 'readings');
+      const ended = await t.service.invoke('endSession', {});
+      const notYet = await t.service.call('continueSession', {
+        sessionId: '00000000-0000-4000-8000-000000000000',
+      });
+      assert.equal(notYet.ok, false, 'an unknown session cannot be continued');
+      const again = await t.service.invoke('continueSession', { sessionId: t.session.id });
+      assert.equal(again.endedAt, null);
+      assert.match(
+        again.notes,
+        new RegExp(
+          `Continued \\d{4}-\\d\\d-\\d\\d \\d\\d:\\d\\d UTC after it had ended ${ended.endedAt!.slice(0, 16).replace('T', ' ')} UTC\\.$`,
+        ),
+      );
+      const st = await t.service.invoke('status', {});
+      assert.deepEqual([st.activeSessionId, st.sessionEnded, st.live], [t.session.id, false, true]);
+      const n = t.store.readings(t.session.id, { limit: 1_000_000 }).length;
+      await until(() => t.store.readings(t.session.id, { limit: 1_000_000 }).length > n, 'readings join it');
+      const twice = await t.service.call('continueSession', { sessionId: t.session.id });
+      assert.equal(twice.ok, false, 'a session that has not ended is opened, not continued');
+    } finally {
+      await t.cleanup();
+    }
+  });
+
+  it('ends a session by id from outside, but not one another running program reads', async () => {
+    const t = await serviceWithSession();
+    const other = new Service({ store: t.store, mode: 'cli' });
+    try {
+      await t.service.invoke('openSession', { sessionId: t.session.id });
+      // The same process holds the lease here, so the lease counts as alive: refused.
+      const refused = await other.call('endSessionById', { sessionId: t.session.id });
+      assert.equal(refused.ok, false);
+      assert.match(refused.ok ? '' : refused.message, /is reading this session: end it there/);
+      await t.service.invoke('closeSession', {});
+      const ended = await other.invoke('endSessionById', { sessionId: t.session.id });
+      assert.ok(ended.endedAt);
+      const twice = await other.call('endSessionById', { sessionId: t.session.id });
+      assert.equal(twice.ok, false);
+    } finally {
+      await other.close();
+      await t.cleanup();
+    }
+  });
 });

@@ -142,7 +142,9 @@ Targets (one):
   --design NAME --revision NAME    a revision;  changes: --rename NEW, --changes TEXT (what changed)
   --unit SERIAL                    a unit;  changes: --serial NEW, --build-date DATE, --builder NAME,
                                    --notes TEXT, --move-to REVISION (of the same design)
-  --session ID                     a session;  change: --emission dsb|usb|lsb (how the transmitter was set)`,
+  --session ID                     a session;  changes: --emission dsb|usb|lsb (how the transmitter was set),
+                                   --end (end it for good: nothing more is stored in it; refused while a
+                                   running program reads it)`,
   async run(argv, io) {
     try {
       const { values } = parseOptions(argv, {
@@ -159,6 +161,7 @@ Targets (one):
         builder: { type: 'string' },
         'move-to': { type: 'string' },
         emission: { type: 'string' },
+        end: { type: 'boolean' },
         json: { type: 'boolean', default: false },
         help: { type: 'boolean', short: 'h', default: false },
       });
@@ -187,6 +190,7 @@ Targets (one):
           'builder',
           'move-to',
           'emission',
+          'end',
         ].filter((k) => values[k as keyof typeof values] !== undefined);
         const wrong = given.find((k) => !allowed.includes(k));
         if (wrong) throw new BenchError('EINVAL', `does not apply to ${target}`, `--${wrong}`);
@@ -255,6 +259,11 @@ Targets (one):
             revisionId,
           });
           text = `unit ${(out as { serial: string }).serial} saved`;
+        } else if (values.end) {
+          only(['end'], 'a session being ended');
+          const s = await service.invoke('endSessionById', { sessionId: values.session! });
+          out = s;
+          text = `session ${s.id} ended ${s.endedAt}`;
         } else {
           only(['emission'], 'a session');
           const e = values.emission!.trim().toLowerCase();

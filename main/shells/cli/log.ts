@@ -52,7 +52,7 @@ const NUMBER_OPTIONS = [
 export const logCommand: Command = {
   name: 'log',
   usage: `nullbench log --tx-pep-dbm P --max-input-dbm M [--source SPEC] [--rate-hz R] [--for-s S] [options]
-nullbench log --session ID [--rate-hz R] [--for-s S]
+nullbench log --session ID [--continue] [--rate-hz R] [--for-s S]
 
 Reads the receiver R times a second and stores every reading in a session. Each reading is printed as one
 JSON line (id, session_id, t, freq_hz, role, raw, dbm_rx, dbm_dut, u_db, settled, floor_limited, overload)
@@ -63,6 +63,8 @@ continued with --session.
 Where the readings go:
   --db FILE            database (default: ${defaultDbPath()})
   --session ID         continue an open session (its receiver, path and trimmers); no set-up options then
+  --continue           with --session: take up a session that has ended (refused without it); its notes
+                       record when it had ended and when it was continued
   --unit SERIAL        the unit being measured (default "${DEFAULT_UNIT}"); created if new, under:
   --design NAME        its design (default "${DEFAULT_DESIGN}"), created if new
   --revision NAME      its board revision (default "${DEFAULT_REVISION}"), created if new
@@ -102,12 +104,19 @@ Refused when the receiver input at the declared PEP through the path would excee
         role: { type: 'string', default: 'carrier' },
         'rate-hz': { type: 'string' },
         'for-s': { type: 'string' },
+        continue: { type: 'boolean', default: false },
         help: { type: 'boolean', short: 'h', default: false },
       });
       if (values.help) {
         io.out(this.usage + '\n');
         return 0;
       }
+      if (values.continue && values.session === undefined)
+        throw new BenchError(
+          'EINVAL',
+          'only with --session (the ended session to take up again)',
+          '--continue',
+        );
       const rateHz = numberOption(values['rate-hz'], 'rate-hz', 10);
       if (!(rateHz > 0 && rateHz <= MAX_RATE_HZ))
         throw new BenchError(
@@ -146,7 +155,7 @@ Refused when the receiver input at the declared PEP through the path would excee
       try {
         const session =
           values.session !== undefined
-            ? continuable(store, values.session)
+            ? continuable(store, values.session, values.continue)
             : await newSession(service, store, values);
         return await logInto(service, store, session, role, forS, io);
       } finally {
@@ -159,7 +168,11 @@ Refused when the receiver input at the declared PEP through the path would excee
   },
 };
 
-function continuable(store: Store, id: string): Session {
+/**
+ * The stored session to log into. One that has ended is refused unless `takeUp` says, knowingly, to
+ * continue it (its notes then record both sittings).
+ */
+function continuable(store: Store, id: string, takeUp: boolean): Session {
   let s: Session;
   try {
     s = store.getSession(id);
@@ -168,12 +181,16 @@ function continuable(store: Store, id: string): Session {
       throw new BenchError('ENOTFOUND', `no session with id "${id}" in ${store.file}`, '--session');
     throw e;
   }
-  if (s.endedAt !== null)
-    throw new BenchError(
-      'ECONFLICT',
-      `session ${id} was closed at ${s.endedAt}; log into a new session instead`,
-      '--session',
-    );
+  if (s.endedAt !== null) {
+    if (!takeUp)
+      throw new BenchError(
+        'ECONFLICT',
+        `session ${id} ended at ${s.endedAt}; log into a new session instead, or add --continue to take this one up again (its notes will say so)`,
+        '--session',
+      );
+    store.continueSession(id);
+    return store.getSession(id);
+  }
   return s;
 }
 

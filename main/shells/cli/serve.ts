@@ -30,7 +30,15 @@ export interface WebStartOptions {
   requireToken?: boolean;
   /** More host names the server answers to, e.g. its name on the LAN. */
   allowHosts?: string[];
+  /** Seconds with no window open after which reading stops (default UNATTENDED_STOP_S; null never). */
+  unattendedStopS?: number | null;
 }
+
+/**
+ * With no window open on the web mode for this long, reading stops and the session waits to be resumed:
+ * long enough for a reload or a moved laptop lid, short enough that an unattended server stores little.
+ */
+export const UNATTENDED_STOP_S = 120;
 
 /** The names and addresses a browser elsewhere may use to reach a server listening on `host`. */
 function reachableNames(host: string): string[] {
@@ -50,7 +58,11 @@ export async function startWeb(opts: WebStartOptions): Promise<Served> {
   const host = opts.host ?? '127.0.0.1';
   let backup: string | null = null;
   const store = new Store(opts.dbPath, { onBackup: (p) => (backup = p) });
-  const service = new Service({ store, mode: 'web' });
+  const service = new Service({
+    store,
+    mode: 'web',
+    unattendedStopS: opts.unattendedStopS === undefined ? UNATTENDED_STOP_S : opts.unattendedStopS,
+  });
   const networked = !isLoopback(host);
   const guarded = networked || !!opts.requireToken;
   let web: WebShell;
@@ -116,6 +128,7 @@ export const NETWORK_WARNING =
 export const serveCommand: Command = {
   name: 'serve',
   usage: `nullbench serve [--port P] [--db FILE] [--host ADDR] [--token] [--new-token] [--allow-host NAME]...
+                [--unattended-stop S]
 
 Options:
   --port P            TCP port (default 8747; 0 picks a free one)
@@ -127,6 +140,8 @@ Options:
   --token             require the access token on 127.0.0.1 too (a computer shared with other people)
   --new-token         issue a new access token, revoking the old one and signing every browser out
   --allow-host NAME   another name this server may be reached by (e.g. bench.lan); repeatable
+  --unattended-stop S with no browser window open for S seconds, stop reading (the session stays open
+                      and resumes when a window comes back); default ${UNATTENDED_STOP_S}, 0 never stops
 Requests naming another host, and calls from pages of other sites, are refused. Stop it with Ctrl+C.`,
   async run(argv, io) {
     try {
@@ -137,6 +152,7 @@ Requests naming another host, and calls from pages of other sites, are refused. 
         token: { type: 'boolean', default: false },
         'new-token': { type: 'boolean', default: false },
         'allow-host': { type: 'string', multiple: true },
+        'unattended-stop': { type: 'string' },
         help: { type: 'boolean', short: 'h', default: false },
       });
       if (values.help) {
@@ -149,6 +165,13 @@ Requests naming another host, and calls from pages of other sites, are refused. 
       const host = (values.host ?? '127.0.0.1').trim();
       if (!/^[A-Za-z0-9.:-]+$/.test(host))
         throw new BenchError('EINVAL', `"${host}" is not an address or host name`, '--host');
+      const unattended = numberOption(values['unattended-stop'], 'unattended-stop', UNATTENDED_STOP_S);
+      if (!(unattended >= 0) || unattended > 86400)
+        throw new BenchError(
+          'EINVAL',
+          `must be 0..86400 seconds, got ${values['unattended-stop']}`,
+          '--unattended-stop',
+        );
       const allowHosts = values['allow-host'] ?? [];
       allowHosts.forEach((n, i) => {
         if (!/^[A-Za-z0-9.:-]+$/.test(n))
@@ -172,6 +195,7 @@ Requests naming another host, and calls from pages of other sites, are refused. 
         newToken: values['new-token'],
         requireToken: values.token,
         allowHosts,
+        unattendedStopS: unattended === 0 ? null : unattended,
       });
       if (served.backup)
         io.out(`The database was upgraded; its earlier version is kept at ${served.backup}\n`);
