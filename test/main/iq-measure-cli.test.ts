@@ -66,7 +66,7 @@ describe('nullbench measure (command line)', () => {
       'hft95',
       '--fft',
       '8192',
-      '--averages',
+      '--average',
       '3',
     ]);
     assert.equal(r.code, 0, r.err);
@@ -107,6 +107,12 @@ describe('nullbench measure (command line)', () => {
     assert.match(r.err, pattern);
   };
 
+  it('takes --averages, the older name of --average, as an alias', async () => {
+    const r = await runMeasure([wav, '--tone-hz', '1000', '--json', '--fft', '8192', '--averages', '2']);
+    assert.equal(r.code, 0, r.err);
+    assert.equal(JSON.parse(r.out).averages, 2);
+  });
+
   it('exits 2 naming the option for bad usage', async () => {
     await usageError([wav], /--tone-hz: is required/);
     await usageError([wav, '--tone-hz', 'abc'], /--tone-hz: must be a number, got "abc"/);
@@ -119,7 +125,13 @@ describe('nullbench measure (command line)', () => {
     await usageError([wav, '--tone-hz', '1000', '--fft', '1000'], /--fft: must be a multiple of 16/);
     await usageError([wav, '--tone-hz', '1000', '--fft', '1048576'], /fewer than one FFT frame/);
     await usageError([wav, '--tone-hz', '20', '--fft', '1024'], /--tone-hz: .*use a larger FFT/);
-    await usageError([wav, '--tone-hz', '1000', '--averages', '0'], /--averages/);
+    await usageError(
+      [wav, '--tone-hz', '1000', '--average', '0'],
+      /--average: must be a whole number >= 1, got 0/,
+    );
+    // The older name is an alias, refused with its own name; both at once is refused too.
+    await usageError([wav, '--tone-hz', '1000', '--averages', '0'], /--averages: must be a whole number/);
+    await usageError([wav, '--tone-hz', '1000', '--average', '2', '--averages', '3'], /give --average only/);
     await usageError(['--tone-hz', '1000'], /expected one recording file/);
     await usageError([wav, '--tone-hz', '1000', '--bogus'], /Unknown option '--bogus'/);
     await usageError([join(t.dir, 'x.mp3'), '--tone-hz', '1000'], /unknown recording type/);

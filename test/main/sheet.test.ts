@@ -151,6 +151,10 @@ describe('nullbench sheet', () => {
       pep.text,
       new RegExp(`^${pep.db!.toFixed(1)} dB below PEP ± ${pep.expandedDb!.toFixed(1)} dB$`),
     );
+    // Machine output uses the ASCII minus; the sheet for people keeps the typographic one.
+    assert.ok(!r.out.includes('\u2212'), 'a typographic minus in --json');
+    const balance = summary.figures.find((f) => f.figure.startsWith('Sideband balance'));
+    if (balance && balance.db !== null && balance.db < 0) assert.match(balance.text, /^-\d/);
     const text = pdftotext(out);
     assert.match(text, summary.overall === 'fail' ? /FAIL/ : /INDETERMINATE/);
     assert.match(text, /Carefully laid-out board \(common practice\)/);

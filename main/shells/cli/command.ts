@@ -102,3 +102,11 @@ export function joinNegativeNumbers(argv: string[], options: string[]): string[]
   }
   return out;
 }
+
+/**
+ * JSON for scripts: numbers as numbers, and the ASCII hyphen-minus wherever a figure's text carries a
+ * minus (the typographic U+2212 is for tables read by people only).
+ */
+export function machineJson(value: unknown, indent?: number): string {
+  return JSON.stringify(value, null, indent).replace(/\u2212/g, '-');
+}

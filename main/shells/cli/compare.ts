@@ -7,7 +7,7 @@ import {
   type SuppressionReference,
 } from '../../../app/analysis';
 import { BenchError } from '../../../app/errors';
-import { parseOptions, reportError, type Command } from './command';
+import { parseOptions, reportError, type Command, machineJson } from './command';
 import { readRecords } from './records';
 
 const f1 = (x: number) => {
@@ -47,7 +47,7 @@ measurement can tell apart (the larger of 1 dB and twice the combined typical un
         const d = records.findDesign(values.design!, '--design');
         const c = await service.invoke('compareRevisions', { designId: d.id, reference: ref });
         if (values.json) {
-          io.out(JSON.stringify(c, null, 2) + '\n');
+          io.out(machineJson(c, 2) + '\n');
           return;
         }
         io.out(

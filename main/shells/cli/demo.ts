@@ -2,7 +2,7 @@
 import { Service } from '../../service';
 import { defaultDbPath } from '../../paths';
 import { Store } from '../../store/store';
-import { parseOptions, reportError, type Command } from './command';
+import { parseOptions, reportError, type Command, machineJson } from './command';
 
 export const demoCommand: Command = {
   name: 'demo',
@@ -25,7 +25,7 @@ Options:
       const store = new Store(values.db ?? defaultDbPath());
       try {
         const s = await new Service({ store, mode: 'cli' }).invoke('loadDemo', {});
-        if (values.json) io.out(JSON.stringify({ db: store.file, ...s }) + '\n');
+        if (values.json) io.out(machineJson({ db: store.file, ...s }) + '\n');
         else
           io.out(
             `Demo scenario written to ${store.file}: ${s.units} units, ${s.sessions} sessions, ${s.keptReadings} kept readings.\n`,

@@ -4,7 +4,7 @@ import { EMISSIONS, type Emission } from '../../../app/analysis';
 import type { z } from 'zod';
 import { DesignInputSchema, RevisionInputSchema, UnitInputSchema } from '../../../app/api/schemas';
 import { BenchError } from '../../../app/errors';
-import { parseOptions, reportError, type Command } from './command';
+import { parseOptions, reportError, type Command, machineJson } from './command';
 import { withRecords } from './records';
 
 export const addCommand: Command = {
@@ -123,7 +123,7 @@ Options:
             said.push(`added unit ${unit.serial}`);
           }
         }
-        if (values.json) io.out(JSON.stringify({ design: d, revision: r ?? null, unit }, null, 2) + '\n');
+        if (values.json) io.out(machineJson({ design: d, revision: r ?? null, unit }, 2) + '\n');
         else io.out(`${said.join('; ')}.\n`);
       });
       return 0;
@@ -276,7 +276,7 @@ Targets (one):
           out = await service.invoke('setEmission', { sessionId: values.session!, emission: e as Emission });
           text = `session ${values.session} is ${e.toUpperCase()}`;
         }
-        io.out(values.json ? JSON.stringify(out, null, 2) + '\n' : `${text}.\n`);
+        io.out(values.json ? machineJson(out, 2) + '\n' : `${text}.\n`);
       });
       return 0;
     } catch (e) {

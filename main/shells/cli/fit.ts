@@ -4,7 +4,7 @@ import { readFile } from 'node:fs/promises';
 import { BenchError } from '../../../app/errors';
 import { fitNull1D, fitNull2D, type NullFit1D, type NullFit2D } from '../../../app/nullfit';
 import { roundingStep, roundTo, fixed } from '../../../app/nullfit/format';
-import { numberOption, parseOptions, reportError, type Command } from './command';
+import { numberOption, parseOptions, reportError, type Command, machineJson } from './command';
 
 /** The two layouts a file may have; columns may come in any order, `censored` is optional. */
 const LAYOUTS = {
@@ -268,9 +268,7 @@ best_reading_dbm adds the receiver's floor.`,
             table.rows.map((r) => ({ position: r.values.position, dbm: r.values.dbm, censored: r.censored })),
             opts,
           );
-          io.out(
-            values.json ? JSON.stringify(json1d(fit, table, floorDbm ?? null)) + '\n' : text1d(fit, table),
-          );
+          io.out(values.json ? machineJson(json1d(fit, table, floorDbm ?? null)) + '\n' : text1d(fit, table));
         } else {
           const fit = fitNull2D(
             table.rows.map((r) => ({
@@ -281,9 +279,7 @@ best_reading_dbm adds the receiver's floor.`,
             })),
             opts,
           );
-          io.out(
-            values.json ? JSON.stringify(json2d(fit, table, floorDbm ?? null)) + '\n' : text2d(fit, table),
-          );
+          io.out(values.json ? machineJson(json2d(fit, table, floorDbm ?? null)) + '\n' : text2d(fit, table));
         }
       } catch (e) {
         // The fit speaks of "readings"; the user knows the file.

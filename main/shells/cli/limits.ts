@@ -4,7 +4,7 @@ import { readFileSync } from 'node:fs';
 import { BenchError } from '../../../app/errors';
 import { STANDING_LABELS, VERIFY_CAUTION, ruleText } from '../../../app/limits';
 import { parseJsonText } from '../../store/bundles';
-import { parseOptions, reportError, type Command } from './command';
+import { parseOptions, reportError, type Command, machineJson } from './command';
 import { readRecords, withRecords } from './records';
 
 export const limitsCommand: Command = {
@@ -55,7 +55,7 @@ ${VERIFY_CAUTION}`,
           const saved = await service.invoke('saveLimitSet', { set: parseJsonText(text) });
           io.out(
             values.json
-              ? JSON.stringify(saved, null, 2) + '\n'
+              ? machineJson(saved, 2) + '\n'
               : `saved limit set "${saved.name}" (id ${saved.id}).\n`,
           );
           return;
@@ -68,7 +68,7 @@ ${VERIFY_CAUTION}`,
         }
         const sets = await service.invoke('limitSets', {});
         if (values.json) {
-          io.out(JSON.stringify(sets, null, 2) + '\n');
+          io.out(machineJson(sets, 2) + '\n');
           return;
         }
         for (const s of sets) {

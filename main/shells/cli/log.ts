@@ -17,6 +17,7 @@ import {
   reportError,
   type Command,
   type Io,
+  machineJson,
 } from './command';
 
 const DEFAULT_DESIGN = 'Bench log';
@@ -291,7 +292,7 @@ async function logInto(
   const offReading = service.listen('reading', (r: LiveReading) => {
     count++;
     io.out(
-      JSON.stringify({
+      machineJson({
         id: r.id,
         session_id: r.sessionId,
         t: r.t,

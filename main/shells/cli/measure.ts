@@ -12,7 +12,7 @@ import {
 import { Window, WINDOW_NAMES } from '../../../app/spectrum/window';
 import { openRecording } from '../../sources/iq/open';
 import type { IqRecording } from '../../sources/iq/recording';
-import { numberOption, parseOptions, reportError, type Command, type Io } from './command';
+import { numberOption, parseOptions, reportError, type Command, type Io, machineJson } from './command';
 
 const DEFAULT_AVERAGES = 100;
 
@@ -28,7 +28,7 @@ const LABELS: Record<ComponentRole, string> = {
 
 export const measureCommand: Command = {
   name: 'measure',
-  usage: `nullbench measure FILE --tone-hz F [--carrier-hz OFFSET] [--window NAME] [--fft N] [--averages K] [--json]
+  usage: `nullbench measure FILE --tone-hz F [--carrier-hz OFFSET] [--window NAME] [--fft N] [--average K] [--json]
 
 FILE is a two-channel WAV (I = channel 1, Q = channel 2; 8-bit, 16/24/32-bit integer or float) or a SigMF
 recording (.sigmf-meta; cu8, ci8, ci16, cf32 and the other complex types).
@@ -40,7 +40,8 @@ Options:
   --window NAME      ${WINDOW_NAMES.join(', ')} (default flat-top, the most accurate for levels)
   --fft N            FFT size, a multiple of 16 with factors 2, 3, 5 (default: a power of two that
                      places the tone at least 16 noise bandwidths from the carrier)
-  --averages K       average at most K spectra (default ${DEFAULT_AVERAGES}, fewer if the recording is shorter)
+  --average K        average at most K spectra (default ${DEFAULT_AVERAGES}, fewer if the recording is shorter);
+                     --averages is the older name, still accepted
   --margin-db M      a component must stand M dB above the local noise floor to count (default 6)
   --json             print one JSON object (carrier_dbfs, upper_dbfs, lower_dbfs, suppression_db, floor_limited, ...)
 A component too close to the noise floor is reported as a bound (floor_limited): its level is "at most",
@@ -57,6 +58,7 @@ give its offset with --carrier-hz, or the spike reads as carrier.`,
           'carrier-hz': { type: 'string' },
           window: { type: 'string', default: 'flat-top' },
           fft: { type: 'string' },
+          average: { type: 'string' },
           averages: { type: 'string' },
           'margin-db': { type: 'string' },
           json: { type: 'boolean', default: false },
@@ -74,9 +76,14 @@ give its offset with --carrier-hz, or the spike reads as carrier.`,
       const toneHz = numberOption(values['tone-hz'], 'tone-hz');
       const carrierHz = numberOption(values['carrier-hz'], 'carrier-hz', 0);
       const marginDb = numberOption(values['margin-db'], 'margin-db', 6);
-      const maxAverages = numberOption(values.averages, 'averages', DEFAULT_AVERAGES);
+      // One name per quantity across commands: --average, as plan's; --averages stays as an alias.
+      if (values.average !== undefined && values.averages !== undefined)
+        throw new BenchError('EINVAL', 'give --average only (--averages is its older name)', '--averages');
+      const averageName = values.averages !== undefined ? 'averages' : 'average';
+      const averageText = values.average ?? values.averages;
+      const maxAverages = numberOption(averageText, averageName, DEFAULT_AVERAGES);
       if (!Number.isInteger(maxAverages) || maxAverages < 1) {
-        throw new BenchError('EINVAL', `must be a whole number >= 1, got ${values.averages}`, '--averages');
+        throw new BenchError('EINVAL', `must be a whole number >= 1, got ${averageText}`, `--${averageName}`);
       }
       const windowName = Window.byName(values.window ?? 'flat-top', 1024, '--window').name;
       const rec = await openRecording(positionals[0]);
@@ -89,7 +96,7 @@ give its offset with --carrier-hz, or the spike reads as carrier.`,
           fftSize: values.fft === undefined ? undefined : numberOption(values.fft, 'fft'),
           maxAverages,
         });
-        if (values.json) io.out(JSON.stringify(toJson(rec, m)) + '\n');
+        if (values.json) io.out(machineJson(toJson(rec, m)) + '\n');
         else printTable(io, rec, m);
         return 0;
       } finally {

@@ -9,7 +9,15 @@ import { defaultDbPath } from '../../paths';
 import { Service } from '../../service';
 import { Store } from '../../store/store';
 import { prompter } from './ask';
-import { numberOption, parseOptions, pepOption, reportError, type Command, type Io } from './command';
+import {
+  numberOption,
+  parseOptions,
+  pepOption,
+  reportError,
+  type Command,
+  type Io,
+  machineJson,
+} from './command';
 
 const USAGE = `nullbench plan run (--session ID | --unit SERIAL (--receiver NAME | --source SPEC [--template T]
                    --max-input-dbm M) --path ELEMENTS (--pep-w W | --tx-pep-dbm P) --carrier-hz F --tone-hz T)
@@ -156,7 +164,7 @@ export const planCommand: Command = {
       store = new Store(values.db ?? defaultDbPath());
       service = new Service({ store, mode: 'cli' });
       const svc = service;
-      const print = (v: PlanView) => io.out(values.json ? JSON.stringify(v) + '\n' : planTableText(v));
+      const print = (v: PlanView) => io.out(values.json ? machineJson(v) + '\n' : planTableText(v));
       const finish = (v: PlanView) => {
         print(v);
         if (v.state === 'cancelled' || v.state === 'interrupted')
@@ -196,7 +204,7 @@ export const planCommand: Command = {
           const ids = values.session ? [values.session] : store.listSessions().map((s) => s.id);
           const all = [];
           for (const id of ids) all.push(...(await svc.invoke('listPlans', { sessionId: id })));
-          if (values.json) io.out(JSON.stringify(all) + '\n');
+          if (values.json) io.out(machineJson(all) + '\n');
           else if (!all.length) io.out('no plans yet\n');
           else
             for (const v of all)

@@ -13,7 +13,7 @@ import { templateNameInSpec } from '../../sources';
 import { createSource, findDriver, SOURCES } from '../../sources';
 import { ReceiverRepo } from '../../store/receivers';
 import { Store } from '../../store/store';
-import { numberOption, parseOptions, reportError, type Command } from './command';
+import { numberOption, parseOptions, reportError, type Command, machineJson } from './command';
 
 /** Errors a real link recovers from: report the gap and go on. */
 const SOFT = new Set(['ETIMEOUT', 'EPROTO', 'EIO']);
@@ -149,7 +149,7 @@ A link fault is reported on stderr ("gap: ...") and never printed as a reading.`
           got++;
           if (values.json) {
             io.out(
-              JSON.stringify({
+              machineJson({
                 raw: s.raw,
                 quantity: s.quantity,
                 dbm_rx: round(c.dbmRx),

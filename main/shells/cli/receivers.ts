@@ -8,7 +8,7 @@ import { Service } from '../../service';
 import type { ReceiverCalls } from '../../service/receivers';
 import { Store } from '../../store/store';
 import { prompter } from './ask';
-import { numberOption, parseOptions, reportError, type Command, type Io } from './command';
+import { numberOption, parseOptions, reportError, type Command, type Io, machineJson } from './command';
 
 const USAGE = `nullbench receivers list [--json] [--db FILE]
 nullbench receivers show NAME [--json] [--db FILE]
@@ -110,7 +110,7 @@ export const receiversCommand: Command = {
       switch (action) {
         case 'list': {
           const all = repo.listReceivers();
-          if (values.json) io.out(JSON.stringify(all) + '\n');
+          if (values.json) io.out(machineJson(all) + '\n');
           else if (!all.length) io.out('no receiver profiles yet: add one with "nullbench receivers add"\n');
           else
             for (const r of all)
@@ -122,7 +122,7 @@ export const receiversCommand: Command = {
         }
         case 'show': {
           const r = repo.findReceiver(need('a receiver name'));
-          io.out(values.json ? JSON.stringify(r) + '\n' : summary(r) + '\n');
+          io.out(values.json ? machineJson(r) + '\n' : summary(r) + '\n');
           return 0;
         }
         case 'add': {
@@ -150,7 +150,7 @@ export const receiversCommand: Command = {
               notes: values.notes ?? '',
             },
           }) as StoredReceiver;
-          io.out(values.json ? JSON.stringify(r) + '\n' : `receiver "${r.name}" saved\n${summary(r)}\n`);
+          io.out(values.json ? machineJson(r) + '\n' : `receiver "${r.name}" saved\n${summary(r)}\n`);
           return 0;
         }
         case 'remove': {
@@ -225,7 +225,7 @@ async function calibrate(
     injections.push({ freqHz, generatorDbm: level, padDb, raw: r.raw, n: r.n, spread: r.spread });
   }
   const fit = desk.fitCalibration(rx.id, injections, undefined, true);
-  if (values.json) io.out(JSON.stringify(fit) + '\n');
+  if (values.json) io.out(machineJson(fit) + '\n');
   else {
     io.out(`calibration "${fit.calibration.name}" saved to receiver "${rx.name}":\n`);
     for (const p of fit.calibration.bands[0].points)

@@ -5,7 +5,7 @@ import { BenchError } from '../../../app/errors';
 import { VERDICT_LABELS } from '../../../app/limits';
 import { PAPERS, paperForLocale, type Paper } from '../../../app/paper';
 import { renderSheet, sheetPdf } from '../../sheet';
-import { parseOptions, reportError, type Command } from './command';
+import { parseOptions, reportError, type Command, machineJson } from './command';
 import { readRecords, writeWhole } from './records';
 
 export const sheetCommand: Command = {
@@ -95,7 +95,7 @@ Chromium is found at /usr/bin/chromium or CHROMIUM_PATH.`,
           })),
           verdicts: model.verdicts.map((v) => ({ set: v.setName, overall: v.overall })),
         };
-        if (values.json) io.out(JSON.stringify(summary, null, 2) + '\n');
+        if (values.json) io.out(machineJson(summary, 2) + '\n');
         else {
           io.out(
             `Test sheet ${model.sheetRef} for ${model.identity.serial} (${model.identity.design} ${model.identity.revision}) written to ${values.out}\n`,

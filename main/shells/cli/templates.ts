@@ -5,7 +5,7 @@ import { escapeControls, type SerialTemplate } from '../../../app/serialtemplate
 import { defaultDbPath } from '../../paths';
 import { ReceiverRepo } from '../../store/receivers';
 import { Store } from '../../store/store';
-import { parseOptions, reportError, type Command, type Io } from './command';
+import { parseOptions, reportError, type Command, type Io, machineJson } from './command';
 
 function line(t: SerialTemplate): string {
   const par = t.parity === 'none' ? 'N' : t.parity === 'even' ? 'E' : 'O';
@@ -75,7 +75,7 @@ export const templatesCommand: Command = {
         case 'list': {
           const all = repo.listTemplates();
           if (values.json)
-            io.out(JSON.stringify(all.map((e) => ({ ...e.template, builtin: e.builtin }))) + '\n');
+            io.out(machineJson(all.map((e) => ({ ...e.template, builtin: e.builtin }))) + '\n');
           else
             for (const e of all)
               io.out(
@@ -87,7 +87,7 @@ export const templatesCommand: Command = {
         case 'show': {
           const t = repo.template(need('a template name'));
           const builtin = repo.listTemplates().some((e) => e.builtin && e.template.name === t.name);
-          io.out(values.json ? JSON.stringify(t) + '\n' : describe(t, builtin) + '\n');
+          io.out(values.json ? machineJson(t) + '\n' : describe(t, builtin) + '\n');
           return 0;
         }
         case 'export': {

@@ -4,7 +4,7 @@ import { readFileSync } from 'node:fs';
 import { BUNDLE_KINDS } from '../../../app/bundle';
 import { CSV_SEPARATORS, type CsvSeparator } from '../../../app/csv';
 import { BenchError } from '../../../app/errors';
-import { parseOptions, reportError, type Command } from './command';
+import { parseOptions, reportError, type Command, machineJson } from './command';
 import { readRecords, withRecords, writeWhole } from './records';
 
 export const exportCommand: Command = {
@@ -148,7 +148,7 @@ Options:
           throw e;
         }
         if (values.json) {
-          io.out(JSON.stringify(s, null, 2) + '\n');
+          io.out(machineJson(s, 2) + '\n');
           return;
         }
         const added = BUNDLE_KINDS.filter((k) => s.added[k]).map((k) => `${s.added[k]} ${k}`);

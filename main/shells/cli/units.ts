@@ -1,5 +1,5 @@
 // Runs in Node. `nullbench units` and `nullbench designs`: what the database holds, as text or JSON.
-import { parseOptions, reportError, type Command } from './command';
+import { parseOptions, reportError, type Command, machineJson } from './command';
 import { readRecords } from './records';
 
 export const unitsCommand: Command = {
@@ -27,7 +27,7 @@ Options:
         const designId = values.design ? records.findDesign(values.design, '--design').id : undefined;
         const units = records.listUnits(designId);
         if (values.json) {
-          io.out(JSON.stringify(units, null, 2) + '\n');
+          io.out(machineJson(units, 2) + '\n');
           return;
         }
         if (!units.length) {
@@ -70,7 +70,7 @@ Options:
       await readRecords(values.db, ({ store }) => {
         const tree = store.tree();
         if (values.json) {
-          io.out(JSON.stringify(tree, null, 2) + '\n');
+          io.out(machineJson(tree, 2) + '\n');
           return;
         }
         if (!tree.length) io.out('No designs yet.\n');
