@@ -122,7 +122,10 @@ for (const [width, height] of [
     it('ends the session, continues it only when asked (its notes say so), and ends it again', async () => {
       await page.click('#btn-end-session');
       await page.locator('#ended-banner').waitFor();
-      await page.locator('#ended-text').filter({ hasText: /unless you continue it/ }).waitFor();
+      await page
+        .locator('#ended-text')
+        .filter({ hasText: /unless you continue it/ })
+        .waitFor();
       await page.screenshot({ path: shot(`habits-${width}-03-ended`) });
       await page.click('#btn-continue-session');
       await page.locator('#ended-banner').waitFor({ state: 'hidden' });
