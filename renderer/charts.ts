@@ -14,6 +14,7 @@ import {
   type ChartDataset,
 } from 'chart.js';
 import { decimateForChart } from '../app/decimate';
+import { dbm as dbmText } from './format';
 
 Chart.register(
   LineController,
@@ -86,6 +87,8 @@ export class StripChart {
 
   constructor(canvas: HTMLCanvasElement) {
     this.canvas = canvas;
+    canvas.setAttribute('role', 'img');
+    canvas.setAttribute('aria-label', 'level at the transmitter: no reading yet');
     this.chart = new Chart(canvas, {
       type: 'line',
       data: {
@@ -145,6 +148,11 @@ export class StripChart {
       const pad = Math.max(0, 10 - (hi - lo)) / 2;
       y.min = Math.floor(lo - pad - 1);
       y.max = Math.ceil(hi + pad + 1);
+      // The picture in words, for assistive tools (a canvas has no text of its own).
+      this.canvas.setAttribute(
+        'aria-label',
+        `level at the transmitter over the last ${STRIP_SECONDS} s: from ${dbmText(lo)} to ${dbmText(hi)} dBm, now ${dbmText(ys[ys.length - 1])} dBm`,
+      );
     }
     this.chart.update('none');
   }
@@ -249,7 +257,13 @@ export class NullChart {
     // The plotted points, as data for assistive tools and tests (a canvas has no text of its own).
     this.canvas.dataset.points = JSON.stringify(sorted);
     this.canvas.dataset.series = JSON.stringify(datasets.map((d) => d.label).filter(Boolean));
-    this.canvas.setAttribute('aria-label', `null chart, ${sorted.length} points against ${xLabel}`);
+    const deepest = sorted.length ? sorted.reduce((m, p) => (p.y < m.y ? p : m)) : null;
+    this.canvas.setAttribute('role', 'img');
+    this.canvas.setAttribute(
+      'aria-label',
+      `null chart, ${sorted.length} points against ${xLabel}` +
+        (deepest ? `; deepest ${dbmText(deepest.y)} dBm at ${deepest.x}` : ''),
+    );
     const xs = this.chart.options.scales?.x;
     if (xs && 'title' in xs && xs.title) xs.title.text = xLabel;
     this.chart.update('none');

@@ -329,12 +329,22 @@ function spreadChart(canvas: HTMLCanvasElement, c: DesignComparison, m: Metric):
     },
   ] as unknown as ChartDataset<'bar'>[];
   // The plotted summary, for assistive tools and tests (a canvas has no text of its own).
-  canvas.dataset.summary = JSON.stringify(
-    c.revisions.map((r) => ({
-      revision: r.name,
-      median: r.metrics[m]?.median ?? null,
-      n: r.metrics[m]?.n ?? 0,
-    })),
+  const summary = c.revisions.map((r) => ({
+    revision: r.name,
+    median: r.metrics[m]?.median ?? null,
+    n: r.metrics[m]?.n ?? 0,
+  }));
+  canvas.dataset.summary = JSON.stringify(summary);
+  canvas.setAttribute('role', 'img');
+  canvas.setAttribute(
+    'aria-label',
+    `${METRIC_LABELS[m]} per revision: ` +
+      summary
+        .map(
+          (x) =>
+            `${x.revision} median ${x.median === null ? 'not measured' : `${x.median.toFixed(1)} dB`} over ${x.n} unit(s)`,
+        )
+        .join('; '),
   );
   return new Chart(canvas, {
     type: 'bar',

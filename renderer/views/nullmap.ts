@@ -5,6 +5,7 @@ import type { NullFitSummary, TrimDef } from '../../app/api';
 import { predictMap } from '../../app/nullfit/align';
 import { fixed } from '../../app/nullfit/format';
 import { h } from '../dom';
+import { emptyNote } from '../charts';
 
 export interface MapPoint {
   a: number;
@@ -68,6 +69,7 @@ function ticks(lo: number, hi: number, n: number): number[] {
 export class NullMap {
   private readonly card: HTMLElement;
   private readonly canvas: HTMLCanvasElement;
+  private box!: HTMLElement;
   private readonly zoom: HTMLSelectElement;
   private readonly note: HTMLElement;
   private data: MapData | null = null;
@@ -93,10 +95,15 @@ export class NullMap {
         h('h2', {}, `Null map: ${ta.label} × ${tb.label}`),
         h('label', { class: 'inline' }, 'show', this.zoom),
       ),
-      h('div', { class: 'map-box' }, this.canvas),
+      (this.box = h('div', { class: 'map-box' }, this.canvas)),
       this.note,
     );
+    emptyNote(this.box, this.emptyText());
     if (typeof ResizeObserver !== 'undefined') new ResizeObserver(() => this.draw()).observe(this.canvas);
+  }
+
+  private emptyText(): string {
+    return `No carrier readings yet. Keep readings at different settings of both ${this.ta.label} and ${this.tb.label}: the map of the null fills in from the sixth.`;
   }
 
   element(): HTMLElement {
@@ -111,6 +118,7 @@ export class NullMap {
       ? JSON.stringify([d.fit.best[this.ta.key], d.fit.best[this.tb.key]])
       : '';
     this.canvas.dataset.next = d.next ? JSON.stringify([d.next.a, d.next.b]) : '';
+    emptyNote(this.box, d.points.length ? null : this.emptyText());
     this.draw();
   }
 

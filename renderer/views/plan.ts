@@ -18,8 +18,11 @@ import { clear, h } from '../dom';
 import { dbm } from '../format';
 import { PlanChart } from './planchart';
 import { numberInput, readNumber } from '../numinput';
+import { emptyNote } from '../charts';
 
 type Notify = (level: 'info' | 'warn' | 'error', msg: string) => void;
+
+const PLAN_EMPTY = 'Each point’s level against the reference appears here as the plan measures it.';
 
 export class PlanPanel {
   private session: Session | null = null;
@@ -118,7 +121,7 @@ export class PlanPanel {
       e.msg,
       e.ask,
       e.refLine,
-      h('div', { class: 'chart-box' }, canvas),
+      (e.chartBox = h('div', { class: 'chart-box' }, canvas)),
       h(
         'div',
         { class: 'scroll short' },
@@ -149,6 +152,7 @@ export class PlanPanel {
     this.els.reference = reference;
     queueMicrotask(() => {
       this.chart = new PlanChart(canvas);
+      emptyNote(e.chartBox, PLAN_EMPTY);
       void this.loadLatest();
     });
     this.render();
@@ -258,6 +262,7 @@ export class PlanPanel {
       );
     }
     this.chart?.show(t.rows, t.reference?.label ?? 'reference');
+    emptyNote(this.els.chartBox, t.rows.some((r) => r.relDb !== null) ? null : PLAN_EMPTY);
   }
 
   private spec() {

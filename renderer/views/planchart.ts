@@ -11,6 +11,7 @@ export class PlanChart {
 
   constructor(canvas: HTMLCanvasElement) {
     this.canvas = canvas;
+    canvas.setAttribute('role', 'img');
     this.chart = new Chart(canvas, {
       type: 'bar',
       data: { labels: [], datasets: [] },

@@ -6,6 +6,7 @@ import { ROLE_LABELS } from '../../app/api';
 import { h } from '../dom';
 import { dbm } from '../format';
 import { numberInput, readNumber } from '../numinput';
+import { emptyNote } from '../charts';
 
 type Notify = (level: 'info' | 'warn' | 'error', msg: string) => void;
 
@@ -35,6 +36,7 @@ function levelText(c: SpectrumComponent, v: number | null, unit: string): string
 export class SpectrumPanel {
   private readonly root: HTMLElement;
   private readonly canvas: HTMLCanvasElement;
+  private box!: HTMLElement;
   private readonly supp: HTMLElement;
   private readonly imd: HTMLElement;
   private readonly info: HTMLElement;
@@ -56,7 +58,14 @@ export class SpectrumPanel {
     private readonly sessionId: string,
     private readonly notify: Notify,
   ) {
-    this.canvas = h('canvas', { class: 'spectrum-canvas', id: 'spectrum-canvas', width: 720, height: 280 });
+    this.canvas = h('canvas', {
+      class: 'spectrum-canvas',
+      id: 'spectrum-canvas',
+      width: 720,
+      height: 280,
+      role: 'img',
+      'aria-label': 'spectrum around the carrier: not started',
+    });
     this.supp = h('b', { id: 'spectrum-suppression' }, '—');
     this.imd = h('span', { id: 'spectrum-imd3' }, '—');
     this.info = h('p', { class: 'hint', id: 'spectrum-info' }, 'Stopped.');
@@ -100,7 +109,7 @@ export class SpectrumPanel {
         'IMD3 ',
         this.imd,
       ),
-      this.canvas,
+      (this.box = h('div', { class: 'chart-box spectrum-box' }, this.canvas)),
       this.info,
       h(
         'table',
@@ -143,6 +152,10 @@ export class SpectrumPanel {
         'Mind the SDR input: most take no more than a few milliwatts. Put enough attenuation ahead of it and ' +
           'watch for the overload warning.',
       ),
+    );
+    emptyNote(
+      this.box,
+      'Press Start to see the spectrum around the carrier from the IQ stream named beside it (iqsim is the built-in simulated SDR).',
     );
   }
 
@@ -251,6 +264,11 @@ export class SpectrumPanel {
     this.supp.textContent = ratioText(f.suppression, 'dB', '≥');
     this.supp.classList.toggle('bound', f.suppression?.floorLimited ?? false);
     this.imd.textContent = ratioText(f.imd3, 'dBc', '≤');
+    // The picture in words, for assistive tools (a canvas has no text of its own).
+    this.canvas.setAttribute(
+      'aria-label',
+      `spectrum around the carrier from ${f.source}: carrier suppression ${this.supp.textContent}, IMD3 ${this.imd.textContent}; the levels are in the table below`,
+    );
     this.info.textContent =
       `${f.source}: ${(f.sampleRate / 1e3).toFixed(0)} kS/s, FFT ${f.fftSize} (${f.binHz.toFixed(1)} Hz bins, flat-top), ` +
       `${f.averages} averages; floor ${dbm(f.noiseFloorDbfs)} dBFS per bin` +
@@ -274,6 +292,7 @@ export class SpectrumPanel {
 
   private draw(f: SpectrumFrame): void {
     const cv = this.canvas;
+    emptyNote(this.box, null);
     const w = Math.max(320, Math.round(cv.clientWidth || 720));
     const hgt = 280;
     if (cv.width !== w) cv.width = w;

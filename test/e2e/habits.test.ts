@@ -69,6 +69,37 @@ for (const [width, height] of [
       await page.screenshot({ path: shot(`habits-${width}-01-at-a-glance`) });
     });
 
+    it('says in words what every chart shows, and what to do where a chart is still empty', async () => {
+      await page.waitForFunction(() =>
+        /over the last 60 s: from/.test(
+          document.querySelector('#strip-chart')?.getAttribute('aria-label') ?? '',
+        ),
+      );
+      assert.equal(await page.locator('#strip-chart').getAttribute('role'), 'img');
+      assert.match(await page.locator('#pane-null .chart-empty').innerText(), /No carrier readings kept yet/);
+      for (const [tab, text] of [
+        ['#tab-map', /the map of the null fills in from the sixth/],
+        ['#tab-plan', /appears here as the plan measures it/],
+        ['#tab-spectrum', /Press Start to see the spectrum/],
+      ] as const) {
+        await page.click(tab);
+        assert.match(await page.locator('[role=tabpanel]:not([hidden]) .chart-empty').innerText(), text);
+      }
+      await page.click('#tab-null');
+    });
+
+    it('plays a null tone whose pitch follows the level, and stops it', async () => {
+      await page.click('#null-tone');
+      assert.equal(await page.locator('#null-tone').getAttribute('aria-pressed'), 'true');
+      await page.waitForFunction(
+        () => Number(document.querySelector<HTMLElement>('#null-tone')?.dataset.hz) > 0,
+      );
+      const hz = Number(await page.locator('#null-tone').getAttribute('data-hz'));
+      assert.ok(hz >= 200 && hz <= 1600, `${hz} Hz`);
+      await page.click('#null-tone');
+      assert.equal(await page.locator('#null-tone').getAttribute('aria-pressed'), 'false');
+    });
+
     it('reads "4,37" in a trimmer field as 4.37 turns, and refuses "4,3,7" naming the field', async () => {
       await page.fill('#trim-A', '4,37');
       await page.press('#trim-A', 'Enter');
