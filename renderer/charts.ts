@@ -155,6 +155,8 @@ export class StripChart {
       );
     }
     this.chart.update('none');
+    // The tick labels as drawn, for tests and assistive tools.
+    this.canvas.dataset.ticks = JSON.stringify(this.chart.scales.y?.ticks.map((t) => String(t.label)) ?? []);
   }
 }
 

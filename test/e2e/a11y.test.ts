@@ -149,6 +149,16 @@ for (const [width, height, colorScheme] of [
       await page.click('#unit-sheet');
       await page.locator('#sheet-preview article.sheet').waitFor();
       noFindings('test sheet view', await audit(page));
+      // The limit-set choices have room to be read and hit: not squeezed to a few pixels.
+      for (const label of await page.locator('#sheet-settings label.check').all()) {
+        const box = (await label.boundingBox())!;
+        assert.ok(
+          box.width >= 150 && box.height >= 16,
+          `a limit-set choice is ${box.width}×${box.height} px`,
+        );
+        const tick = (await label.locator('input').boundingBox())!;
+        assert.ok(tick.width >= 12 && tick.height >= 12, `its checkbox is ${tick.width}×${tick.height} px`);
+      }
       await page.screenshot({ path: shot(`a11y-${width}-04-sheet`), fullPage: true });
       await page.click('.nav-item[data-view=compare]');
       await page.locator('#compare-chart-carrier').waitFor();

@@ -41,7 +41,12 @@ for (const [width, height] of [
       dbFile = join(dir.dir, 'habits.db');
       served = await startWeb({ dbPath: dbFile, port: 0 });
       browser = await launch();
-      page = await browser.newPage({ viewport: { width, height }, acceptDownloads: true });
+      // The larger screen in a decimal-comma locale: the app still writes every figure the same way.
+      page = await browser.newPage({
+        viewport: { width, height },
+        acceptDownloads: true,
+        locale: width === 1920 ? 'de-DE' : 'en-US',
+      });
       await page.goto(served.url);
       await page.locator('#sessions-dialog').waitFor();
       await page.fill('input[name=serial]', `HB-${width}`);
@@ -86,6 +91,16 @@ for (const [width, height] of [
         assert.match(await page.locator('[role=tabpanel]:not([hidden]) .chart-empty').innerText(), text);
       }
       await page.click('#tab-null');
+    });
+
+    it('writes chart ticks like every other figure, whatever the browser locale', async () => {
+      await page.waitForFunction(
+        () => (document.querySelector<HTMLElement>('#strip-chart')?.dataset.ticks ?? '[]').length > 2,
+      );
+      const ticks = JSON.parse((await page.locator('#strip-chart').getAttribute('data-ticks'))!) as string[];
+      assert.ok(ticks.length >= 2, JSON.stringify(ticks));
+      for (const t of ticks)
+        assert.match(t, /^(\u2212)?\d+(\.\d+)?$/, `tick "${t}" (${JSON.stringify(ticks)})`);
     });
 
     it('plays a null tone whose pitch follows the level, and stops it', async () => {

@@ -190,3 +190,26 @@ describe('nullbench CLI', () => {
     assert.equal(bad.code, 2);
   });
 });
+
+describe('the command list', () => {
+  it('loads each command on demand, under the name the list gives it', async () => {
+    const { COMMANDS } = await import('../../main/shells/cli/index');
+    assert.ok(COMMANDS.length >= 18);
+    for (const entry of COMMANDS) {
+      const cmd = await entry.load();
+      assert.equal(cmd.name, entry.name);
+      assert.ok(entry.summary.length > 20, `${entry.name} has a summary`);
+    }
+  });
+
+  it('names the default database the same way in every help text: its path', async () => {
+    const { COMMANDS } = await import('../../main/shells/cli/index');
+    const { defaultDbPath } = await import('../../main/paths');
+    for (const entry of COMMANDS) {
+      const { usage } = await entry.load();
+      if (!usage.includes('--db')) continue;
+      assert.ok(usage.includes(`(default: ${defaultDbPath()})`), `${entry.name} --help`);
+      assert.ok(!usage.includes("the user's)"), `${entry.name} --help`);
+    }
+  });
+});

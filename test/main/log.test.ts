@@ -150,7 +150,46 @@ describe('nullbench log', () => {
 
       const closed = await runCli(['log', '--db', db, '--session', id, '--for-s', '0.2']);
       assert.equal(closed.code, 1);
-      assert.match(closed.err, /ECONFLICT.*--session: session .* was closed/);
+      assert.match(
+        closed.err,
+        /ECONFLICT.*--session: session .* ended at .*; .*add --continue to take this one up again/,
+      );
+      // Taken up again only when asked: the same session, and its notes record both sittings.
+      const taken = await runCli([
+        'log',
+        '--db',
+        db,
+        '--session',
+        id,
+        '--continue',
+        '--for-s',
+        '0.2',
+        '--rate-hz',
+        '50',
+      ]);
+      assert.equal(taken.code, 0, taken.err);
+      for (const l of taken.out.trim().split('\n'))
+        assert.equal((JSON.parse(l) as { session_id: string }).session_id, id);
+      const notes = new Database(db, { readonly: true });
+      assert.match(
+        (notes.prepare('SELECT notes FROM sessions WHERE id = ?').get(id) as { notes: string }).notes,
+        /Continued .* UTC after it had ended .* UTC\./,
+      );
+      notes.close();
+      const stray = await runCli(['log', '--db', db, '--continue']);
+      assert.equal(stray.code, 2);
+      assert.match(stray.err, /--continue: only with --session/);
+      // Ended from the command line, as the bench's End session does (here after a crash left it open); a
+      // second end is a conflict.
+      const reopen = new Database(db);
+      reopen.prepare('UPDATE sessions SET ended_at = NULL').run();
+      reopen.close();
+      const end = await runCli(['edit', '--db', db, '--session', id, '--end']);
+      assert.equal(end.code, 0, end.err);
+      assert.match(end.out, new RegExp(`session ${id} ended \\d{4}-`));
+      const again = await runCli(['edit', '--db', db, '--session', id, '--end']);
+      assert.equal(again.code, 1);
+      assert.match(again.err, /ECONFLICT.*already ended/);
       const mixed = await runCli(['log', '--db', db, '--session', id, '--path', 'pad:20']);
       assert.equal(mixed.code, 2);
       assert.match(mixed.err, /--path: --session continues a stored session/);

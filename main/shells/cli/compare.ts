@@ -9,6 +9,7 @@ import {
 import { BenchError } from '../../../app/errors';
 import { parseOptions, reportError, type Command, machineJson } from './command';
 import { readRecords } from './records';
+import { defaultDbPath } from '../../paths';
 
 const f1 = (x: number) => {
   const s = Math.abs(x).toFixed(1);
@@ -22,7 +23,7 @@ export const compareCommand: Command = {
 Options:
   --design NAME       the design whose revisions to compare
   --reference REF     what carrier suppression (and IMD3) is stated against: pep (default), tone or unbalanced
-  --db FILE           database (default: the user's)
+  --db FILE           database (default: ${defaultDbPath()})
   --json              the whole comparison as JSON (every value with its unit, session and uncertainty)
 A revision is called better or worse than the one before when the medians differ by more than the
 measurement can tell apart (the larger of 1 dB and twice the combined typical uncertainty).`,

@@ -6,13 +6,14 @@ import { DesignInputSchema, RevisionInputSchema, UnitInputSchema } from '../../.
 import { BenchError } from '../../../app/errors';
 import { parseOptions, reportError, type Command, machineJson } from './command';
 import { withRecords } from './records';
+import { defaultDbPath } from '../../paths';
 
 export const addCommand: Command = {
   name: 'add',
   usage: `nullbench add --design NAME [--revision NAME [--unit SERIAL]] [options]
 
 Options:
-  --db FILE            database (default: the user's)
+  --db FILE            database (default: ${defaultDbPath()})
   --design NAME        the design (created when missing)
   --notes TEXT         notes of a new design
   --revision NAME      a board revision of the design (created when missing)
@@ -144,7 +145,10 @@ Targets (one):
                                    --notes TEXT, --move-to REVISION (of the same design)
   --session ID                     a session;  changes: --emission dsb|usb|lsb (how the transmitter was set),
                                    --end (end it for good: nothing more is stored in it; refused while a
-                                   running program reads it)`,
+                                   running program reads it)
+Options:
+  --db FILE                        database (default: ${defaultDbPath()})
+  --json                           print what was saved as JSON`,
   async run(argv, io) {
     try {
       const { values } = parseOptions(argv, {

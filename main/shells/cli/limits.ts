@@ -6,13 +6,14 @@ import { STANDING_LABELS, VERIFY_CAUTION, ruleText } from '../../../app/limits';
 import { parseJsonText } from '../../store/bundles';
 import { parseOptions, reportError, type Command, machineJson } from './command';
 import { readRecords, withRecords } from './records';
+import { defaultDbPath } from '../../paths';
 
 export const limitsCommand: Command = {
   name: 'limits',
   usage: `nullbench limits [--db FILE] [--json] [--save FILE.json | --delete ID]
 
 Options:
-  --db FILE          database (default: the user's)
+  --db FILE          database (default: ${defaultDbPath()})
   --json             the sets as JSON
   --save FILE.json   save a limit set of your own, e.g.
                      {"name": "Kit target", "rules": [{"metric": "carrier", "reference": "pep", "minDb": 50},

@@ -7,6 +7,7 @@ import { PAPERS, paperForLocale, type Paper } from '../../../app/paper';
 import { renderSheet, sheetPdf } from '../../sheet';
 import { parseOptions, reportError, type Command, machineJson } from './command';
 import { readRecords, writeWhole } from './records';
+import { defaultDbPath } from '../../paths';
 
 export const sheetCommand: Command = {
   name: 'sheet',
@@ -15,7 +16,7 @@ export const sheetCommand: Command = {
 Options:
   --unit SERIAL       the unit
   --out FILE          where to write: FILE.pdf (headless Chromium) or FILE.html
-  --db FILE           database (default: the user's)
+  --db FILE           database (default: ${defaultDbPath()})
   --session ID        report this session (default: the one chosen for the unit's sheet, else the latest)
   --limits IDS        limit sets, comma-separated ids (see nullbench limits; default: the unit's sheet
                       settings, else common practice and 47 CFR 97.307(d))

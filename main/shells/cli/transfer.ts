@@ -6,6 +6,7 @@ import { CSV_SEPARATORS, type CsvSeparator } from '../../../app/csv';
 import { BenchError } from '../../../app/errors';
 import { parseOptions, reportError, type Command, machineJson } from './command';
 import { readRecords, withRecords, writeWhole } from './records';
+import { defaultDbPath } from '../../paths';
 
 export const exportCommand: Command = {
   name: 'export',
@@ -19,7 +20,7 @@ Options:
   --session ID      with --csv: only this session's readings
   --separator S     with --csv: comma (decimal point, the default) or semicolon (decimal comma, for
                     spreadsheets set to a decimal-comma locale)
-  --db FILE         database (default: the user's)`,
+  --db FILE         database (default: ${defaultDbPath()})`,
   async run(argv, io) {
     try {
       const { values } = parseOptions(argv, {
@@ -104,7 +105,7 @@ whole file is checked first and merged in one transaction: a bad file is refused
 field at fault, and nothing is written.
 
 Options:
-  --db FILE   database (default: the user's)
+  --db FILE   database (default: ${defaultDbPath()})
   --json      print the summary as JSON`,
   async run(argv, io) {
     try {

@@ -1,13 +1,14 @@
 // Runs in Node. `nullbench units` and `nullbench designs`: what the database holds, as text or JSON.
 import { parseOptions, reportError, type Command, machineJson } from './command';
 import { readRecords } from './records';
+import { defaultDbPath } from '../../paths';
 
 export const unitsCommand: Command = {
   name: 'units',
   usage: `nullbench units [--db FILE] [--design NAME] [--json]
 
 Options:
-  --db FILE       database (default: the user's)
+  --db FILE       database (default: ${defaultDbPath()})
   --design NAME   only the units of this design
   --json          a JSON array, one object per unit (serial, id, design, revision, buildDate, builder,
                   notes, sessions, lastSessionAt)`,
@@ -54,7 +55,7 @@ export const designsCommand: Command = {
   usage: `nullbench designs [--db FILE] [--json]
 
 Options:
-  --db FILE   database (default: the user's)
+  --db FILE   database (default: ${defaultDbPath()})
   --json      the design → revision → unit tree as JSON`,
   async run(argv, io) {
     try {
