@@ -70,6 +70,14 @@ export class BenchView {
     if (!this.session || s.activeSessionId !== this.session.id) return;
     // An ended session is shown for review: its controls that read, tune or keep are stood down.
     this.root.classList.toggle('reviewing', s.sessionEnded);
+    if (s.sessionEnded) {
+      emptyNote(
+        this.els.stripBox,
+        'This session has ended: nothing is read. Its kept readings are in the tabs below.',
+      );
+      this.els.settle.textContent = 'ended';
+      this.els.settle.className = 'settle';
+    }
     this.guide?.onStatus(s);
     for (const [k, el] of this.trimInputs) {
       if (document.activeElement !== el && typeof s.trims[k] === 'number')
@@ -537,7 +545,7 @@ export class BenchView {
     this.nullChart.show(pts, `${def.label} (${def.unit})`, now, this.guide?.chartExtras(def.key) ?? []);
     if (refit) void this.guide?.refresh(this.kept, def.key);
     this.els.nullNote.textContent = pts.length
-      ? `${pts.length} carrier readings. Deepest so far: ${dbm(Math.min(...pts.map((p) => p.y)))} dBm.`
+      ? `${pts.length} carrier reading${pts.length === 1 ? '' : 's'}. Deepest so far: ${dbm(Math.min(...pts.map((p) => p.y)))} dBm.`
       : '';
   }
 }
