@@ -18,29 +18,17 @@ export interface FinderHost {
 
 const nodeHost = (): FinderHost => ({ platform: process.platform, env: process.env, exists: existsSync });
 
-/** Program names of Chromium-based browsers on Linux, searched on PATH after /usr/bin/chromium. */
-export const LINUX_NAMES = [
-  'chromium',
-  'chromium-browser',
-  'google-chrome-stable',
-  'google-chrome',
-  'microsoft-edge-stable',
-  'microsoft-edge',
-];
+/**
+ * Chromium's program names on Linux, searched on PATH after /usr/bin/chromium. Another Chromium-based
+ * browser is named by CHROMIUM_PATH (the code names no vendor's product).
+ */
+export const LINUX_NAMES = ['chromium', 'chromium-browser'];
 
-/** Chromium-based browsers' standard install paths under the Windows program folders. */
-const WINDOWS_TAILS = [
-  ['Chromium', 'Application', 'chrome.exe'],
-  ['Google', 'Chrome', 'Application', 'chrome.exe'],
-  ['Microsoft', 'Edge', 'Application', 'msedge.exe'],
-];
+/** Chromium's standard install path under the Windows program folders (its program file is chrome.exe). */
+const WINDOWS_TAILS = [['Chromium', 'Application', 'chrome.exe']];
 
-/** Chromium-based browsers' standard app bundles on macOS (in /Applications or ~/Applications). */
-const MAC_BUNDLES = [
-  'Chromium.app/Contents/MacOS/Chromium',
-  'Google Chrome.app/Contents/MacOS/Google Chrome',
-  'Microsoft Edge.app/Contents/MacOS/Microsoft Edge',
-];
+/** Chromium's app bundle on macOS (in /Applications or ~/Applications). */
+const MAC_BUNDLES = ['Chromium.app/Contents/MacOS/Chromium'];
 
 /** Every place looked at, in order (CHROMIUM_PATH first when set). */
 export function chromiumCandidates(host: FinderHost = nodeHost()): string[] {
@@ -81,12 +69,10 @@ export function findChromium(host: FinderHost = nodeHost()): string {
   const found = all.find((p) => host.exists(p));
   if (found) return found;
   const hint =
-    host.platform === 'linux'
-      ? 'install Chromium (Debian: apt install chromium)'
-      : 'install a Chromium-based browser';
+    host.platform === 'linux' ? 'install Chromium (Debian: apt install chromium)' : 'install Chromium';
   throw new BenchError(
     'ENAVAIL',
-    `headless Chromium was not found to print with (looked at ${all.slice(0, 4).join(', ')}${all.length > 4 ? ', …' : ''}): ${hint} or set CHROMIUM_PATH`,
+    `headless Chromium was not found to print with (looked at ${all.slice(0, 4).join(', ')}${all.length > 4 ? ', …' : ''}): ${hint} or set CHROMIUM_PATH to any Chromium-based browser`,
     'chromium',
   );
 }

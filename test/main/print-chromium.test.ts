@@ -27,10 +27,10 @@ describe('finding Chromium', () => {
       '/usr/bin/chromium',
     );
     assert.equal(
-      findChromium(host('linux', env, ['/usr/bin/google-chrome', '/usr/local/bin/chromium-browser'])),
+      findChromium(host('linux', env, ['/usr/bin/chromium-browser', '/usr/local/bin/chromium-browser'])),
       '/usr/local/bin/chromium-browser',
+      'PATH order among the names',
     );
-    assert.equal(findChromium(host('linux', env, ['/usr/bin/microsoft-edge'])), '/usr/bin/microsoft-edge');
     const all = chromiumCandidates(host('linux', env, []));
     assert.equal(all[0], '/usr/bin/chromium');
     assert.ok(!all.some((p) => p.startsWith('relative')), 'a relative PATH entry is never searched');
@@ -53,20 +53,19 @@ describe('finding Chromium', () => {
       'PROGRAMFILES(X86)': 'C:\\Program Files (x86)',
       LOCALAPPDATA: 'C:\\Users\\bench\\AppData\\Local',
     };
-    const edge = 'C:\\Program Files (x86)\\Microsoft\\Edge\\Application\\msedge.exe';
+    const system = 'C:\\Program Files\\Chromium\\Application\\chrome.exe';
     const local = 'C:\\Users\\bench\\AppData\\Local\\Chromium\\Application\\chrome.exe';
-    assert.equal(findChromium(host('win32', env, [edge])), edge);
-    assert.equal(findChromium(host('win32', env, [edge, local])), local, 'Chromium before the others');
+    assert.equal(findChromium(host('win32', env, [local])), local);
+    assert.equal(findChromium(host('win32', env, [system, local])), system, 'the program folders first');
     assert.ok(chromiumCandidates(host('win32', env, [])).every((p) => /^C:\\/.test(p)));
   });
 
   it('macOS: app bundles in /Applications, then in the home folder', () => {
     const env = { HOME: '/Users/bench' };
     const mine = '/Users/bench/Applications/Chromium.app/Contents/MacOS/Chromium';
-    const sys = '/Applications/Google Chrome.app/Contents/MacOS/Google Chrome';
+    const sys = '/Applications/Chromium.app/Contents/MacOS/Chromium';
     assert.equal(findChromium(host('darwin', env, [mine])), mine);
-    assert.equal(findChromium(host('darwin', env, [sys, mine])), mine, 'Chromium before the others');
-    assert.equal(findChromium(host('darwin', env, [sys])), sys);
+    assert.equal(findChromium(host('darwin', env, [sys, mine])), sys, '/Applications first');
   });
 
   it('nothing found: ENAVAIL naming where it looked and what to do', () => {
