@@ -457,8 +457,8 @@ export function assertReceiverSafe(
 // Text form for the command line
 
 const SPEC_HELP =
-  'pad:dB[/tol], cable:dB[/tol], coupler:dB[/tol], offset:dB[/tol], pi:shunt/series[/tol%], ' +
-  't:series/shunt[/tol%], vswr:source/load';
+  'pad:dB[/tol], cable:dB[/tol], coupler:dB[/tol], offset:dB[/tol], pi:shunt/series[/shunt2ohm][/tol%], ' +
+  't:series/shunt[/series2ohm][/tol%], vswr:source/load';
 
 /** A number with an optional unit suffix (dB, ohm, %, or ":1" after a VSWR). */
 function specNumber(text: string, what: string, suffix: RegExp): number {
@@ -516,29 +516,44 @@ export function parsePathSpec(spec: string, option = '--path'): PathElement[] {
         }
         case 'pi':
         case 't': {
+          const names =
+            kind === 'pi'
+              ? { first: 'the shunt resistance', mid: 'the series resistance', second: 'second shunt' }
+              : { first: 'the series resistance', mid: 'the shunt resistance', second: 'second series arm' };
           want(
             2,
-            3,
+            4,
             kind === 'pi'
-              ? 'pi:shunt/series or pi:shunt/series/tol%'
-              : 't:series/shunt or t:series/shunt/tol%',
+              ? 'pi:shunt/series, or pi:shunt/series/shunt2 for unequal shunts, each optionally with /tol%'
+              : 't:series/shunt, or t:series/shunt/series2 for unequal arms, each optionally with /tol%',
           );
-          const a = specNumber(
-            args[0],
-            kind === 'pi' ? 'the shunt resistance' : 'the series resistance',
-            ohm,
-          );
-          const b = specNumber(
-            args[1],
-            kind === 'pi' ? 'the series resistance' : 'the shunt resistance',
-            ohm,
-          );
-          const tol = args[2] === undefined ? undefined : specNumber(args[2], 'the tolerance', /\s*%$/);
+          const a = specNumber(args[0], names.first, ohm);
+          const b = specNumber(args[1], names.mid, ohm);
+          // A third value is the other outer resistor or a tolerance; a bare number could be either, and
+          // the two readings differ by dB, so it must say which (49.9ohm, or 1%). With four values the
+          // third is the resistor and the fourth the tolerance.
+          let second: number | undefined;
+          let tol: number | undefined;
+          const third = args[2]?.trim();
+          if (args.length === 4) {
+            second = specNumber(args[2], `the ${names.second}`, ohm);
+            tol = specNumber(args[3], 'the tolerance', /\s*%$/);
+          } else if (third !== undefined) {
+            if (/%$/.test(third)) tol = specNumber(third, 'the tolerance', /\s*%$/);
+            else if (ohm.test(third)) second = specNumber(third, `the ${names.second}`, ohm);
+            else
+              throw new BenchError(
+                'EINVAL',
+                `the third value "${third}" could be a tolerance or the ${names.second}: write "${third}%" for a tolerance or "${third}ohm" for the ${names.second}`,
+                field,
+              );
+          }
           element = {
             kind: 'pad-measured',
             topology: kind,
             shuntOhm: kind === 'pi' ? a : b,
             seriesOhm: kind === 'pi' ? b : a,
+            ...(second === undefined ? {} : kind === 'pi' ? { shunt2Ohm: second } : { series2Ohm: second }),
             ...(tol === undefined ? {} : { tolPct: tol }),
           };
           break;

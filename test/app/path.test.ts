@@ -331,6 +331,34 @@ describe('path.parsePathSpec()', () => {
     );
   });
 
+  it('reads an unequal pad only when the third value says it is a resistor, never as a tolerance', () => {
+    // pi:61.9/249/49.9 once read the second shunt as a 49.9 % tolerance: now a bare third value is refused.
+    const bare = throwsBench(
+      () => parsePathSpec('pi:61.9/249/49.9'),
+      'EINVAL',
+      '--path item 1 ("pi:61.9/249/49.9")',
+    );
+    assert.match(bare.message, /could be a tolerance or the second shunt: write "49.9%" .* or "49.9ohm"/);
+    assert.deepEqual(parsePathSpec('pi:61.9/249/49.9ohm'), [
+      { kind: 'pad-measured', topology: 'pi', shuntOhm: 61.9, seriesOhm: 249, shunt2Ohm: 49.9 },
+    ]);
+    assert.deepEqual(parsePathSpec('t:40.9/10.1/41.2 Ω/1%'), [
+      { kind: 'pad-measured', topology: 't', shuntOhm: 10.1, seriesOhm: 40.9, series2Ohm: 41.2, tolPct: 1 },
+    ]);
+    assert.deepEqual(parsePathSpec('pi:61.9/249/49.9/0.5'), [
+      { kind: 'pad-measured', topology: 'pi', shuntOhm: 61.9, seriesOhm: 249, shunt2Ohm: 49.9, tolPct: 0.5 },
+    ]);
+    // The loss is the unequal circuit's: voltage division between 50 ohm source and load (Ohm's law), as above.
+    const par = (x: number, y: number) => (x * y) / (x + y);
+    const z2 = par(49.9, 50);
+    const z1 = par(61.9, 249 + z2);
+    const vLoad = (z1 / (50 + z1)) * (z2 / (249 + z2));
+    const [e] = validatePath(parsePathSpec('pi:61.9/249/49.9ohm'));
+    near(padAttenuationDb('pi', 61.9, 249, 50, 49.9), 20 * Math.log10(0.5 / vLoad), 1e-9);
+    // The text form reads back as the same pad.
+    assert.deepEqual(parsePathSpec(`pi:${formatPath([e]).match(/measured (.*) Ω/)![1]}ohm`), [e]);
+  });
+
   it('gives an empty path for empty text', () => {
     assert.deepEqual(parsePathSpec(''), []);
     assert.deepEqual(parsePathSpec('   '), []);
