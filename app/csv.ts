@@ -57,3 +57,73 @@ export function toCsv(
   }
   return `${opts.bom === false ? '' : '\uFEFF'}${lines.join('\r\n')}\r\n`;
 }
+
+/** A CSV file read back: its records as fields, each with the line it starts on (1-based). */
+export interface CsvRead {
+  separator: CsvSeparator;
+  records: { fields: string[]; line: number }[];
+}
+
+/**
+ * Reads CSV as RFC 4180 writes it (quoted fields with doubled quotes, separators and line breaks inside
+ * quotes), in either dialect: a first record with more semicolons than commas outside quotes is the
+ * semicolon dialect (its header may hold commas in unquoted text). A byte order mark is dropped; with
+ * `comments`, lines starting with # are skipped. An unclosed quote is an error naming its line.
+ */
+export function parseCsv(text: string, opts: { comments?: boolean } = {}): CsvRead {
+  const t = text.replace(/^\uFEFF/, '');
+  const firstLine = t.split(/\r?\n/).find((l) => l.trim() !== '' && !l.trimStart().startsWith('#')) ?? '';
+  const outside = firstLine.replace(/"[^"]*"/g, '');
+  const count = (c: string) => outside.split(c).length - 1;
+  const separator: CsvSeparator = count(';') > count(',') ? 'semicolon' : 'comma';
+  const sep = separator === 'semicolon' ? ';' : ',';
+  const records: CsvRead['records'] = [];
+  let fields: string[] = [];
+  let field = '';
+  let quoted = false;
+  let line = 1;
+  let start = 1;
+  let quoteLine = 0;
+  const endRecord = () => {
+    fields.push(field);
+    records.push({ fields, line: start });
+    fields = [];
+    field = '';
+  };
+  for (let i = 0; i < t.length; i++) {
+    const c = t[i];
+    if (quoted) {
+      if (c === '"') {
+        if (t[i + 1] === '"') {
+          field += '"';
+          i++;
+        } else quoted = false;
+      } else {
+        if (c === '\n') line++;
+        field += c;
+      }
+      continue;
+    }
+    // A comment line (opts.comments): '#' where a record starts, to the end of its line.
+    if (opts.comments && c === '#' && field === '' && fields.length === 0) {
+      while (i + 1 < t.length && t[i + 1] !== '\n' && t[i + 1] !== '\r') i++;
+      continue;
+    }
+    if (c === '"' && field.trim() === '') {
+      field = '';
+      quoted = true;
+      quoteLine = line;
+    } else if (c === sep) {
+      fields.push(field);
+      field = '';
+    } else if (c === '\n' || c === '\r') {
+      if (c === '\r' && t[i + 1] === '\n') i++;
+      endRecord();
+      line++;
+      start = line;
+    } else field += c;
+  }
+  if (quoted) throw new Error(`line ${quoteLine}: a quoted field is never closed`);
+  if (field !== '' || fields.length) endRecord();
+  return { separator, records };
+}

@@ -10,6 +10,7 @@ import { DEFAULT_GUIDE_UDB, type TrialMode } from './guide';
 import { nextTrial1D } from './guide1d';
 import { nextTrial2D } from './guide2d';
 import { dbmToMw, mwToDbm } from './readings';
+import { lowest, highest } from './stats';
 
 /** What the alignment needs of a stored reading (app/api Reading fits). */
 export interface AlignReading {
@@ -237,8 +238,8 @@ function curveXs(lo: number, hi: number, x0: number, knee: number): number[] {
 /** Where a curve along a trimmer is drawn: the readings and the best setting, padded, within the travel. */
 function span(t: AlignTrim, xs: number[], best: number): [number, number] {
   const inTravel = [...xs, best].filter((x) => Number.isFinite(x) && x >= t.min && x <= t.max);
-  let lo = Math.min(...inTravel);
-  let hi = Math.max(...inTravel);
+  let lo = lowest(inTravel);
+  let hi = highest(inTravel);
   const pad = Math.max(0.05 * (hi - lo), (t.max - t.min) / 200);
   lo = Math.max(t.min, lo - pad);
   hi = Math.min(t.max, hi + pad);
@@ -460,7 +461,7 @@ export function guideSession(
     stop: trial.stop,
     mode: trial.mode,
     reason: trial.reason,
-    bestSeenDbm: usedLevels.length ? Math.min(...usedLevels) : null,
+    bestSeenDbm: usedLevels.length ? lowest(usedLevels) : null,
     uDb,
     n: sel.used.length,
     resolution: Object.fromEntries(sel.defs.map((d) => [d.key, sel.resolution[d.key]])),

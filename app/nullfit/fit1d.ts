@@ -23,7 +23,7 @@ import {
   type ResolvedFitOptions,
 } from './readings';
 import { floorBound } from './profile';
-import { coverageFactor } from './stats';
+import { coverageFactor, lowest, highest } from './stats';
 
 export interface Reading1D {
   /** Trimmer position in the user's unit (turns, degrees, steps). */
@@ -180,7 +180,7 @@ function starts(p: Prepared, o: ResolvedFitOptions, cMinMw: number): number[][] 
   const whole = parabolaStart(xs, ps, cMinMw);
   if (whole) out.push(whole);
   // The lowest reading and its nearest neighbours: a parabola there ignores far-off outliers.
-  const kBest = ps.indexOf(Math.min(...ps));
+  const kBest = ps.indexOf(lowest(ps));
   const near = xs
     .map((x, j) => ({ x, j }))
     .sort((u, v) => Math.abs(u.x - xs[kBest]) - Math.abs(v.x - xs[kBest]))
@@ -218,10 +218,10 @@ export function fitNull1D(readings: readonly Reading1D[], opts?: Fit1DOptions): 
   const o = resolveFitOptions(opts, 'fitNull1D');
   const p = prepare(readings, o);
   const values = p.c.map((k) => (k.censored ? k.boundDbm : k.dbm));
-  const yMin = Math.min(...values);
-  const yMax = Math.max(...values);
-  const xMin = Math.min(...p.x);
-  const xMax = Math.max(...p.x);
+  const yMin = lowest(values);
+  const yMax = highest(values);
+  const xMin = lowest(p.x);
+  const xMax = highest(p.x);
   const span = xMax - xMin;
   const cLowDbm = (o.floorDbm ?? yMin) - 100;
   const lower = [xMin - 100 * span, -400, cLowDbm];

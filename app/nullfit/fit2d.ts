@@ -28,7 +28,7 @@ import {
   type FitOptions,
   type ResolvedFitOptions,
 } from './readings';
-import { coverageFactor, ellipseRadius2 } from './stats';
+import { coverageFactor, ellipseRadius2, lowest, highest } from './stats';
 import type { FitDesign } from './fit1d';
 
 export interface Reading2D {
@@ -249,7 +249,7 @@ function starts(p: Prepared, o: ResolvedFitOptions, cMin: number, sa: number, sb
   const out: number[][] = [];
   const whole = quadricStart(p, idx, ps, cMin, sa, sb);
   if (whole) out.push(whole);
-  const iBest = idx[ps.indexOf(Math.min(...ps))];
+  const iBest = idx[ps.indexOf(lowest(ps))];
   const dist = (i: number): number => ((p.a[i] - p.a[iBest]) / sa) ** 2 + ((p.b[i] - p.b[iBest]) / sb) ** 2;
   if (idx.length > 8) {
     const near = idx
@@ -335,9 +335,9 @@ export function fitNull2D(readings: readonly Reading2D[], opts?: Fit2DOptions): 
   const sa = spread(p.a);
   const sb = spread(p.b);
   const values = p.c.map((k) => (k.censored ? k.boundDbm : k.dbm));
-  const cLowDbm = (o.floorDbm ?? Math.min(...values)) - 100;
+  const cLowDbm = (o.floorDbm ?? lowest(values)) - 100;
   const lower = [-Infinity, -Infinity, -Infinity, -Infinity, -Infinity, cLowDbm];
-  const upper = [Infinity, Infinity, Infinity, Infinity, Infinity, Math.max(...values) + 20];
+  const upper = [Infinity, Infinity, Infinity, Infinity, Infinity, highest(values) + 20];
   const fn = residuals2D(p, o.floorMw);
   let best: LmResult | null = null;
   for (const s of starts(p, o, dbmToMw(cLowDbm), sa, sb)) {

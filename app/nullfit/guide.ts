@@ -17,6 +17,7 @@
 import { check } from '../errors';
 import { dot, matVec, type Mat } from './linalg';
 import type { FitOptions } from './readings';
+import { lowest } from './stats';
 
 export interface GuideOptions extends FitOptions {
   /**
@@ -90,7 +91,7 @@ export function designGain(cov: Mat, g: readonly number[], s2: number, q: Mat): 
 
 /** The lowest reading so far, dBm, as the receiver showed it (censored ones included: they are what the user saw). */
 export function lowestLevel(readings: readonly { dbm: number }[]): number {
-  return Math.min(...readings.map((r) => r.dbm));
+  return lowest(readings.map((r) => r.dbm));
 }
 
 /**

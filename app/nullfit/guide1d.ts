@@ -16,6 +16,7 @@ import {
   type TrialMode,
 } from './guide';
 import { checkNumber, dbmToMw } from './readings';
+import { lowest, highest } from './stats';
 
 export interface Guide1DOptions extends GuideOptions {
   /** Smallest settable step of the trimmer, position units > 0; default 1/1000 of the range. */
@@ -72,16 +73,16 @@ export function nextTrial1D(
 
   // Readings over the whole travel that all agree: the trimmer is not acting on the carrier at all.
   const levels = readings.map((r) => r.dbm);
-  const covered = Math.max(...positions) - Math.min(...positions) >= 0.6 * span;
-  if (readings.length >= 4 && covered && Math.max(...levels) - Math.min(...levels) < 2 * uDb) {
+  const covered = highest(positions) - lowest(positions) >= 0.6 * span;
+  if (readings.length >= 4 && covered && highest(levels) - lowest(levels) < 2 * uDb) {
     return {
-      position: roundTo(positions[levels.indexOf(Math.min(...levels))], resolution),
+      position: roundTo(positions[levels.indexOf(lowest(levels))], resolution),
       predictedDbm: null,
       band: null,
       expectedGainDb: 0,
       stop: true,
       mode: 'done',
-      reason: `stop: over the whole travel the level stays within ${db(Math.max(...levels) - Math.min(...levels))}: this trimmer does not move the carrier (or the carrier is below the receiver's floor)`,
+      reason: `stop: over the whole travel the level stays within ${db(highest(levels) - lowest(levels))}: this trimmer does not move the carrier (or the carrier is below the receiver's floor)`,
       fit: null,
     };
   }
@@ -200,10 +201,10 @@ function bracket(
   stepDb: number,
 ): { position: number; mode: TrialMode; reason: string } {
   const levels = readings.map((r) => r.dbm);
-  const low = Math.min(...levels);
+  const low = lowest(levels);
   const atLow = positions.filter((_, i) => levels[i] <= low + 1e-9);
-  const xl = Math.min(...atLow);
-  const xr = Math.max(...atLow);
+  const xl = lowest(atLow);
+  const xr = highest(atLow);
   const above = positions.filter((_, i) => levels[i] > low + 1e-9);
   const outerL = Math.max(-Infinity, ...above.filter((x) => x < xl));
   const outerR = Math.min(Infinity, ...above.filter((x) => x > xr));

@@ -17,6 +17,7 @@ import {
 import { symEigen, type Mat } from './linalg';
 import { checkNumber, dbmToMw } from './readings';
 import { BRACKET_STEP_DB, nextTrial1D } from './guide1d';
+import { lowest, highest } from './stats';
 
 export interface Bounds2D {
   /** Travel of trimmer A, [min, max] in its unit. */
@@ -103,9 +104,9 @@ export function nextTrial2D(
 
   // Readings over both travels that all agree: neither trimmer is acting on the carrier.
   const levels = readings.map((r) => r.dbm);
-  const spreadDb = Math.max(...levels) - Math.min(...levels);
+  const spreadDb = highest(levels) - lowest(levels);
   const covers = (xs: number[], lo: number, hi: number): boolean =>
-    Math.max(...xs) - Math.min(...xs) >= 0.6 * (hi - lo);
+    highest(xs) - lowest(xs) >= 0.6 * (hi - lo);
   if (
     readings.length >= 6 &&
     spreadDb < 2 * uDb &&
@@ -120,7 +121,7 @@ export function nextTrial2D(
       bHi,
     )
   ) {
-    const low = pts[levels.indexOf(Math.min(...levels))];
+    const low = pts[levels.indexOf(lowest(levels))];
     return {
       ...round(low.a, low.b),
       predictedDbm: null,

@@ -157,3 +157,17 @@ export function coverageFactor(level: number, dof: number): number {
   const p = 1 - (1 - level) / 2;
   return Number.isFinite(dof) ? studentTQuantile(p, dof) : normalQuantile(p);
 }
+
+/** The lowest of many numbers, by a loop (Math.min(...xs) overflows the call stack past ~10^5 values). */
+export function lowest(xs: readonly number[]): number {
+  let m = Infinity;
+  for (const x of xs) if (x < m) m = x;
+  return m;
+}
+
+/** The highest of many numbers, by a loop (see lowest). */
+export function highest(xs: readonly number[]): number {
+  let m = -Infinity;
+  for (const x of xs) if (x > m) m = x;
+  return m;
+}

@@ -2,7 +2,7 @@
 // Python's csv module, the reference parser here, exactly as a spreadsheet import would see it.
 import { describe, it } from 'node:test';
 import assert from 'node:assert/strict';
-import { csvField, toCsv } from '../../app/csv';
+import { csvField, parseCsv, toCsv } from '../../app/csv';
 import { readingsCsv } from '../../main/store/csv';
 import { Records } from '../../main/store/records';
 import { Store } from '../../main/store/store';
@@ -57,6 +57,35 @@ describe('csv.toCsv()', () => {
       ['-12,5', 'a; b'],
       ['3', 'x, y'],
     ]);
+  });
+
+  it("reads back what it writes, in both dialects, field for field as Python's csv module reads it", () => {
+    const header = ['level (dBm)', 'note, with comma', 'x'];
+    const rows = [
+      [-12.5, 'two\nlines', 'say "hi"'],
+      [3, 'a; b', ''],
+    ];
+    for (const separator of ['comma', 'semicolon'] as const) {
+      const text = toCsv(header, rows, { separator });
+      const back = parseCsv(text);
+      assert.equal(back.separator, separator);
+      // Reference: Python's csv module with the dialect's delimiter.
+      const delim = separator === 'comma' ? ',' : ';';
+      const py = pythonJson<string[][]>(
+        `import csv,io,json,sys\nprint(json.dumps(list(csv.reader(io.StringIO(sys.stdin.buffer.read().decode("utf-8-sig"), newline=""), delimiter="${delim}"))))`,
+        new TextEncoder().encode(text),
+      );
+      assert.deepEqual(
+        back.records.map((r) => r.fields),
+        py,
+      );
+      // A record's line is where it starts: the one with a line break inside quotes spans two.
+      assert.deepEqual(
+        back.records.map((r) => r.line),
+        [1, 2, 4],
+      );
+    }
+    assert.throws(() => parseCsv('a,b\n"open,1\n'), /line 2: a quoted field is never closed/);
   });
 
   it('keeps spreadsheet formulas out of text fields, never out of numbers', () => {

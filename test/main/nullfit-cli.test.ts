@@ -6,6 +6,9 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fitCommand } from '../../main/shells/cli/fit';
 import { fitNull1D } from '../../app/nullfit';
+import { readingsCsv } from '../../main/store/csv';
+import { Store } from '../../main/store/store';
+import { demoDb } from '../helpers/demo';
 import { polar, reading2D, rng, sample1D } from '../app/nullfit-helpers';
 
 let dir = '';
@@ -144,6 +147,92 @@ describe('nullbench fit', () => {
   it('prints its usage with --help', async () => {
     const r = await run(['--help']);
     assert.equal(r.code, 0);
-    assert.match(r.out, /^nullbench fit FILE\.csv \[--json\] \[--floor-dbm F\]/);
+    assert.match(
+      r.out,
+      /^nullbench fit FILE\.csv \[--json\] \[--floor-dbm F\] \[--session ID\] \[--trims A\[,B\]\]/,
+    );
+  });
+
+  it('refuses a level no bench reads (5,1e300), naming line and column, instead of letting it move the fit', async () => {
+    const r = await run([file('absurd.csv', `${csv1}5,1e300\n`)]);
+    assert.equal(r.code, 2);
+    assert.match(
+      r.err,
+      new RegExp(
+        `absurd\\.csv line ${readings1.length + 2}, column 2 \\(dbm\\): 1e300 dBm is no level a bench reads`,
+      ),
+    );
+    const far = await run([file('far.csv', 'position,dbm\n1,-40\n2e9,-41\n')]);
+    assert.match(far.err, /line 3, column 1 \(position\): 2e9 is no trimmer position/);
+  });
+
+  it('fits 150,000 readings without overflowing the call stack', async () => {
+    const g2 = rng(5);
+    const many = sample1D(
+      ONE,
+      Array.from({ length: 150_000 }, () => 2.8 + 1.2 * g2.uniform()),
+      0.2,
+      7,
+    );
+    const rows = many.map((x) => `${x.position.toFixed(5)},${x.dbm.toFixed(3)}`);
+    const r = await run([file('many.csv', `position,dbm\n${rows.join('\n')}\n`), '--json']);
+    assert.equal(r.code, 0, r.err);
+    const j = JSON.parse(r.out) as { n: number; best_position: number };
+    assert.equal(j.n, 150_000);
+    assert.ok(Math.abs(j.best_position - 3.412) < 0.01, String(j.best_position));
+  });
+
+  it('reads RFC 4180 quoting and the semicolon dialect with decimal commas', async () => {
+    const quoted = `"position","dbm"\r\n${readings1.map((x) => `"${x.position.toFixed(4)}",${x.dbm.toFixed(2)}`).join('\r\n')}\r\n`;
+    const semi = `position;dbm\n${readings1.map((x) => `${x.position.toFixed(4).replace('.', ',')};${x.dbm.toFixed(2).replace('.', ',')}`).join('\n')}\n`;
+    const plain = JSON.parse((await run([file('p.csv', csv1), '--json'])).out);
+    for (const [name, text] of [
+      ['q.csv', quoted],
+      ['s.csv', semi],
+    ] as const) {
+      const r = await run([file(name, text), '--json']);
+      assert.equal(r.code, 0, r.err);
+      assert.deepEqual(JSON.parse(r.out), plain, name);
+    }
+  });
+
+  it("reads the tool's own readings export: the kept carrier readings of one session, as the same fit", async () => {
+    const demo = await demoDb();
+    const store = new Store(demo.file);
+    try {
+      const unit = store.tree()[0].revisions[0].units[0];
+      const one = readingsCsv(store, { unitId: unit.id });
+      const r = await run([file('export.csv', one.csv), '--json']);
+      assert.equal(r.code, 0, r.err);
+      // The same readings written in the fit's own layout by hand give the same fit.
+      const kept = store
+        .listSessions(unit.id)
+        .flatMap((x) => store.readings(x.id, { limit: 1_000_000 }))
+        .filter((x) => x.kept && x.role === 'carrier');
+      const own =
+        'pos_a,pos_b,dbm,censored\n' +
+        kept.map((x) => `${x.trims.A},${x.trims.B},${x.dbmDut},${x.floorLimited ? 1 : 0}`).join('\n');
+      const mine = await run([file('own.csv', own), '--json']);
+      const a = JSON.parse(r.out) as Record<string, unknown>;
+      const b = JSON.parse(mine.out) as Record<string, unknown>;
+      assert.deepEqual({ ...a, outlier_lines: null }, { ...b, outlier_lines: null });
+      assert.equal(a.n, kept.length);
+      // Semicolon dialect, one trimmer chosen, several sessions refused unless one is named.
+      const semi = readingsCsv(store, { unitId: unit.id }, 'semicolon');
+      assert.deepEqual(JSON.parse((await run([file('semi.csv', semi.csv), '--json'])).out), a);
+      const oneTrim = JSON.parse((await run([file('export.csv', one.csv), '--json', '--trims', 'A'])).out);
+      assert.equal(oneTrim.kind, '1d');
+      const all = readingsCsv(store, {});
+      const many = await run([file('all.csv', all.csv)]);
+      assert.equal(many.code, 2);
+      assert.match(many.err, /kept carrier readings of 6 sessions .*give --session ID/);
+      const sid = store.listSessions(unit.id)[0].id;
+      const picked = await run([file('all.csv', all.csv), '--json', '--session', sid]);
+      assert.equal(picked.code, 0, picked.err);
+      assert.equal(JSON.parse(picked.out).best_a, a.best_a);
+    } finally {
+      store.close();
+      demo.cleanup();
+    }
   });
 });

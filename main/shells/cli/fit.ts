@@ -1,6 +1,7 @@
 // Runs in Node. `nullbench fit FILE.csv`: fit the carrier null to trimmer readings from a CSV file and
 // print the best setting, its confidence interval and the predicted depth.
 import { readFile } from 'node:fs/promises';
+import { parseCsv } from '../../../app/csv';
 import { BenchError } from '../../../app/errors';
 import { fitNull1D, fitNull2D, type NullFit1D, type NullFit2D } from '../../../app/nullfit';
 import { roundingStep, roundTo, fixed } from '../../../app/nullfit/format';
@@ -20,69 +21,195 @@ interface Table {
 const TRUE = new Set(['1', 'true', 'yes', 'y']);
 const FALSE = new Set(['', '0', 'false', 'no', 'n']);
 
-/** Parse the CSV text; every error names the line (1-based, as an editor shows it) and the column. */
-export function parseFitCsv(text: string, file: string): Table {
-  const lines = text.replace(/^\uFEFF/, '').split(/\r?\n/);
-  const cells = (s: string): string[] =>
-    s.split(',').map((c) =>
-      c
-        .trim()
-        .replace(/^"(.*)"$/, '$1')
-        .trim(),
+/**
+ * Levels a bench can read at the transmitter, dBm: far below any receiver's floor (thermal noise is
+ * −174 dBm/Hz) to far above any amateur transmitter (+100 dBm is 10 MW). A value outside is a typing or
+ * export error, and one such value would move the fit and throw the real readings out as outliers.
+ */
+export const PLAUSIBLE_DBM: readonly [number, number] = [-250, 100];
+/** Trimmer positions beyond this (in any unit) are no position a trimmer reaches. */
+export const PLAUSIBLE_POSITION = 1e6;
+
+/** Which readings of a readings export to fit (nullbench export --csv). */
+export interface ExportChoice {
+  session?: string;
+  /** trimmer keys: one (a 1-D fit) or two (2-D) */
+  trims?: string[];
+}
+
+/** The columns of the readings export the fit reads (main/store/csv.ts), as compared: lower case. */
+const EXPORT = {
+  point: 'point',
+  session: 'session id',
+  level: 'level at transmitter (dbm)',
+  kept: 'kept (1/0)',
+  floor: 'at receiver floor (1/0)',
+} as const;
+
+/**
+ * Parse the CSV text (RFC 4180, comma or semicolon dialect); every error names the line (1-based, as an
+ * editor shows it) and the column. Two kinds of file: our own layout (position,dbm or pos_a,pos_b,dbm,
+ * optionally censored), or the readings export, whose kept carrier readings of one session are fitted
+ * against its trimmer columns.
+ */
+export function parseFitCsv(text: string, file: string, choice: ExportChoice = {}): Table {
+  let read;
+  try {
+    read = parseCsv(text, { comments: true });
+  } catch (e) {
+    throw new BenchError('EINVAL', (e as Error).message, file);
+  }
+  const decimalComma = read.separator === 'semicolon';
+  const records = read.records.filter(
+    (r) => !(r.fields.length === 1 && (r.fields[0].trim() === '' || r.fields[0].trimStart().startsWith('#'))),
+  );
+  if (!records.length)
+    throw new BenchError('EINVAL', 'the file is empty: expected a header line and readings', file);
+  const [head, ...body] = records;
+  const names = head.fields.map((x) => x.trim().toLowerCase());
+  if (names.includes(EXPORT.point) && names.includes(EXPORT.level))
+    return fromExport(body, names, file, choice, decimalComma);
+  if (choice.session !== undefined || choice.trims !== undefined)
+    throw new BenchError(
+      'EINVAL',
+      'only for a readings export (nullbench export --csv)',
+      choice.session !== undefined ? '--session' : '--trims',
     );
-  let header: string[] | null = null;
-  let kind: '1d' | '2d' = '1d';
+  const want = names.filter((x) => x !== 'censored').sort();
+  const kind = (Object.keys(LAYOUTS) as ('1d' | '2d')[]).find(
+    (k) => [...LAYOUTS[k]].sort().join() === want.join(),
+  );
+  if (!kind || new Set(names).size !== names.length) {
+    throw new BenchError(
+      'EINVAL',
+      `unknown header "${head.fields.join(',')}": expected position,dbm (one trimmer) or pos_a,pos_b,dbm (two trimmers), each optionally with a censored column, or a readings export (nullbench export --csv)`,
+      `${file} line ${head.line}`,
+    );
+  }
   const rows: Table['rows'] = [];
-  lines.forEach((raw, i) => {
-    const line = i + 1;
-    if (raw.trim() === '' || raw.trimStart().startsWith('#')) return;
-    const c = cells(raw);
-    if (!header) {
-      const names = c.map((x) => x.toLowerCase());
-      const want = names.filter((x) => x !== 'censored').sort();
-      const match = (Object.keys(LAYOUTS) as ('1d' | '2d')[]).find(
-        (k) => [...LAYOUTS[k]].sort().join() === want.join(),
-      );
-      if (!match || new Set(names).size !== names.length) {
-        throw new BenchError(
-          'EINVAL',
-          `unknown header "${c.join(',')}": expected position,dbm (one trimmer) or pos_a,pos_b,dbm (two trimmers), each optionally with a censored column`,
-          `${file} line ${line}`,
-        );
-      }
-      header = names;
-      kind = match;
-      return;
-    }
-    if (c.length !== header.length) {
+  for (const r of body) {
+    if (r.fields.length !== names.length) {
       throw new BenchError(
         'EINVAL',
-        `expected ${header.length} cells (${header.join(',')}), got ${c.length}`,
-        `${file} line ${line}`,
+        `expected ${names.length} cells (${names.join(',')}), got ${r.fields.length}`,
+        `${file} line ${r.line}`,
       );
     }
     const values: Record<string, number> = {};
     let censored = false;
-    c.forEach((cell, j) => {
-      const name = header![j];
-      const where = `${file} line ${line}, column ${j + 1} (${name})`;
-      if (name === 'censored') {
-        const v = cell.toLowerCase();
-        if (TRUE.has(v)) censored = true;
-        else if (!FALSE.has(v))
-          throw new BenchError('EINVAL', `"${cell}" is not a yes/no value (use 1 or 0)`, where);
-        return;
-      }
-      const n = Number(cell);
-      if (cell === '' || !Number.isFinite(n))
-        throw new BenchError('EINVAL', `"${cell}" is not a number`, where);
-      values[name] = n;
+    r.fields.forEach((raw, j) => {
+      const name = names[j];
+      const where = `${file} line ${r.line}, column ${j + 1} (${name})`;
+      if (name === 'censored') censored = yesNo(raw, where);
+      else values[name] = cellNumber(raw, where, name === 'dbm' ? 'dbm' : 'position', decimalComma);
     });
-    rows.push({ values, censored, line });
-  });
-  if (!header) throw new BenchError('EINVAL', 'the file is empty: expected a header line and readings', file);
+    rows.push({ values, censored, line: r.line });
+  }
   if (rows.length === 0) throw new BenchError('EINVAL', 'the file has a header but no readings', file);
   return { kind, rows };
+}
+
+function yesNo(raw: string, where: string): boolean {
+  const v = raw.trim().toLowerCase();
+  if (TRUE.has(v)) return true;
+  if (!FALSE.has(v)) throw new BenchError('EINVAL', `"${raw}" is not a yes/no value (use 1 or 0)`, where);
+  return false;
+}
+
+function cellNumber(raw: string, where: string, what: 'dbm' | 'position', decimalComma: boolean): number {
+  const cell = raw.trim();
+  const n = Number(decimalComma ? cell.replace(',', '.') : cell);
+  if (cell === '' || !Number.isFinite(n)) throw new BenchError('EINVAL', `"${raw}" is not a number`, where);
+  if (what === 'dbm' && (n < PLAUSIBLE_DBM[0] || n > PLAUSIBLE_DBM[1]))
+    throw new BenchError(
+      'EINVAL',
+      `${cell} dBm is no level a bench reads (expected ${PLAUSIBLE_DBM[0]} to +${PLAUSIBLE_DBM[1]} dBm); correct or remove the line`,
+      where,
+    );
+  if (what === 'position' && Math.abs(n) > PLAUSIBLE_POSITION)
+    throw new BenchError('EINVAL', `${cell} is no trimmer position (beyond ±${PLAUSIBLE_POSITION})`, where);
+  return n;
+}
+
+/** The kept carrier readings of one session of a readings export, against one or two trimmer columns. */
+function fromExport(
+  body: { fields: string[]; line: number }[],
+  names: string[],
+  file: string,
+  choice: ExportChoice,
+  decimalComma: boolean,
+): Table {
+  const col = (n: string) => names.indexOf(n);
+  const at = (r: { fields: string[] }, n: string) => r.fields[col(n)] ?? '';
+  const carrier = body.filter(
+    (r) =>
+      r.fields.length === names.length &&
+      at(r, EXPORT.point).trim() === 'carrier' &&
+      (col(EXPORT.kept) < 0 || yesNo(at(r, EXPORT.kept), `${file} line ${r.line} (${EXPORT.kept})`)),
+  );
+  const sessions = [...new Set(carrier.map((r) => at(r, EXPORT.session).trim()))];
+  let rows = carrier;
+  if (choice.session !== undefined) {
+    rows = carrier.filter((r) => at(r, EXPORT.session).trim() === choice.session);
+    if (!rows.length)
+      throw new BenchError(
+        'EINVAL',
+        `no kept carrier readings of session ${choice.session} in ${file}`,
+        '--session',
+      );
+  } else if (sessions.length > 1)
+    throw new BenchError(
+      'EINVAL',
+      `the file holds kept carrier readings of ${sessions.length} sessions (${sessions.slice(0, 3).join(', ')}${sessions.length > 3 ? ', …' : ''}); a fit is of one session: give --session ID`,
+      file,
+    );
+  if (!rows.length) throw new BenchError('EINVAL', 'the export holds no kept carrier readings to fit', file);
+  // Trimmer columns: "trim A (turns)"; those with a value in every chosen reading, or the ones asked for.
+  const trimCols = names.map((n, j) => ({ key: /^trim (\S+)/.exec(n)?.[1], j, n })).filter((t) => t.key);
+  const keyOf = (k: string) => trimCols.find((t) => t.key!.toLowerCase() === k.toLowerCase());
+  let chosen;
+  if (choice.trims) {
+    chosen = choice.trims.map((k, i) => {
+      const t = keyOf(k);
+      if (!t)
+        throw new BenchError(
+          'EINVAL',
+          `no trimmer column "${k}" in ${file} (it has ${trimCols.map((x) => x.key!.toUpperCase()).join(', ') || 'none'})`,
+          `--trims[${i}]`,
+        );
+      return t;
+    });
+    if (chosen.length < 1 || chosen.length > 2)
+      throw new BenchError('EINVAL', 'give one trimmer or two', '--trims');
+  } else {
+    chosen = trimCols.filter((t) => rows.every((r) => r.fields[t.j].trim() !== ''));
+    if (chosen.length === 0)
+      throw new BenchError('EINVAL', 'the kept carrier readings carry no trimmer position', file);
+    if (chosen.length > 2)
+      throw new BenchError(
+        'EINVAL',
+        `the readings carry ${chosen.length} trimmers (${chosen.map((t) => t.key!.toUpperCase()).join(', ')}): give the one or two to fit with --trims`,
+        file,
+      );
+  }
+  const kind: Table['kind'] = chosen.length === 1 ? '1d' : '2d';
+  const out: Table['rows'] = rows.map((r) => {
+    const where = (n: string) => `${file} line ${r.line}, column ${col(n) + 1} (${n})`;
+    const level = cellNumber(at(r, EXPORT.level), where(EXPORT.level), 'dbm', decimalComma);
+    const pos = chosen.map((t) =>
+      cellNumber(
+        r.fields[t.j],
+        `${file} line ${r.line}, column ${t.j + 1} (${t.n})`,
+        'position',
+        decimalComma,
+      ),
+    );
+    const censored = col(EXPORT.floor) >= 0 && yesNo(at(r, EXPORT.floor), where(EXPORT.floor));
+    const values: Record<string, number> =
+      kind === '1d' ? { position: pos[0], dbm: level } : { pos_a: pos[0], pos_b: pos[1], dbm: level };
+    return { values, censored, line: r.line };
+  });
+  return { kind, rows: out };
 }
 
 /** Numbers in JSON: rounded to a sensible precision, open bounds as null. */
@@ -213,14 +340,19 @@ function joinNegativeValues(argv: string[], options: string[]): string[] {
 
 export const fitCommand: Command = {
   name: 'fit',
-  usage: `nullbench fit FILE.csv [--json] [--floor-dbm F]
+  usage: `nullbench fit FILE.csv [--json] [--floor-dbm F] [--session ID] [--trims A[,B]]
 
 FILE.csv has a header line and one reading per line:
   position,dbm          one trimmer (position in any unit: turns, degrees, steps)
   pos_a,pos_b,dbm       two trimmers
   an optional censored column (1/0) marks readings that sat at the receiver's floor;
-  blank lines and lines starting with # are skipped.
+  blank lines and lines starting with # are skipped. Comma or semicolon separated (semicolon files take
+  a decimal comma). Levels outside -250..+100 dBm are refused, naming the line.
+Or a readings export (nullbench export --csv): its kept carrier readings of one session, against the
+trimmer columns they carry (at the receiver floor counts as censored).
 Options:
+  --session ID    with an export holding several sessions: the one to fit
+  --trims A[,B]   with an export whose readings carry more than two trimmers: the one or two to fit
   --floor-dbm F   the receiver's measurement floor, dBm: readings within 0.5 dB of it count as censored
   --json          one JSON object: best_position, best_dbm, ci_low, ci_high, a, floor_dbm, n, residual_db
                   (two trimmers: best_a, best_b, best_dbm, ci_a_low ... collinear, angle_deg)
@@ -233,6 +365,8 @@ best_reading_dbm adds the receiver's floor.`,
         {
           json: { type: 'boolean', default: false },
           'floor-dbm': { type: 'string' },
+          session: { type: 'string' },
+          trims: { type: 'string' },
           help: { type: 'boolean', short: 'h', default: false },
         },
         true,
@@ -260,7 +394,10 @@ best_reading_dbm adds the receiver's floor.`,
           code === 'ENOENT' ? 'no such file' : code === 'EISDIR' ? 'is a directory' : (e as Error).message;
         throw new BenchError('EINVAL', `cannot read: ${why}`, file);
       }
-      const table = parseFitCsv(text, file);
+      const table = parseFitCsv(text, file, {
+        session: values.session,
+        trims: values.trims?.split(',').map((k) => k.trim()),
+      });
       const opts = { floorDbm };
       try {
         if (table.kind === '1d') {
