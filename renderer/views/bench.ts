@@ -14,6 +14,7 @@ import { formatPath, validatePath } from '../../app/path';
 import { emptyNote, NullChart, StripChart } from '../charts';
 import { clear, h } from '../dom';
 import { dbm, mhz, signed, sUnits } from '../format';
+import { normaliseDecimal } from '../../app/numbers';
 import { numberInput, readNumber } from '../numinput';
 import { Panes } from '../tabs';
 import { FarView, NullTone } from './farview';
@@ -265,7 +266,7 @@ export class BenchView {
             type: 'button',
             title: `${d > 0 ? '+' : ''}${d} ${t.unit}`,
             onclick: () => {
-              const now = Number(inp.value.replace(',', '.'));
+              const now = Number(normaliseDecimal(inp.value) ?? NaN);
               inp.value = String(round((Number.isFinite(now) ? now : (t.min + t.max) / 2) + d, 4));
               apply();
             },

@@ -143,6 +143,16 @@ for (const [width, height] of [
       await page.screenshot({ path: shot(`habits-${width}-02-notice`) });
     });
 
+    it('keeps to one dialog at a time', async () => {
+      await page.click('#btn-sessions');
+      await page.locator('#sessions-dialog').waitFor();
+      await page.click('#btn-receivers', { force: true });
+      await page.locator('#receivers-dialog').waitFor();
+      assert.equal(await page.locator('.overlay').count(), 1, 'dialogs stacked');
+      await page.keyboard.press('Escape');
+      await page.locator('.overlay').waitFor({ state: 'detached' });
+    });
+
     it('keeps with the bare K only: Ctrl+K, Alt+K and Meta+K belong to others', async () => {
       await page.fill('#trim-A', '4.37');
       await page.press('#trim-A', 'Enter');
