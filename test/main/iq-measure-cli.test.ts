@@ -54,6 +54,21 @@ describe('nullbench measure (command line)', () => {
     assert.match(r.out, /carrier\s+0\.0\s+<= -\d+\.\d\d/);
     assert.match(r.out, /Carrier suppression {2}at least \d+\.\d\d dB/);
     assert.match(r.out, /SSB {10}upper sideband wanted/);
+    // How much of the file was used, and what the uncertainty covers, are said.
+    assert.match(r.out, /Used {9}\d+ of \d+ frames: the first \d+\.\d+ s of \d+\.\d+ s/);
+    assert.match(r.out, /U \(k = 2, about 95 %\) from the noise in the measured bins only/);
+    assert.ok(!/\+\/- 0\.00\b/.test(r.out), 'an uncertainty printed as 0.00');
+  });
+
+  it('states in JSON what part of the recording was used and what the uncertainties cover', async () => {
+    const r = await runMeasure([wav, '--tone-hz', '1000', '--json', '--average', '2']);
+    assert.equal(r.code, 0, r.err);
+    const j = JSON.parse(r.out);
+    assert.equal(j.averages, 2);
+    assert.ok(j.frames_in_file >= 2);
+    assert.ok(Math.abs(j.seconds_used - (2 * j.n) / j.sample_rate) < 0.01);
+    assert.equal(j.u_k, 1);
+    assert.match(j.u_covers, /noise/);
   });
 
   it('--json prints one JSON object with the agreed fields', async () => {

@@ -208,6 +208,13 @@ export function toJson(rec: IqRecording, m: TwoToneMeasurement): Record<string, 
     window: m.window,
     n: m.fftSize,
     averages: m.averages,
+    // How much of the recording the figures come from: the first `averages` frames of `frames_in_file`.
+    frames_in_file: Math.floor(rec.sampleCount / m.fftSize),
+    seconds_used: r2((m.averages * m.fftSize) / rec.sampleRate),
+    seconds_in_file: r2(rec.sampleCount / rec.sampleRate),
+    // Every *_u_db is a standard uncertainty (k = 1) from the noise in the measured bins only.
+    u_k: 1,
+    u_covers: 'noise in the measured bins; not the SDR calibration or its flatness across the band',
     bin_hz: r2(m.binHz),
     enbw_hz: r2(m.enbwHz),
     carrier_offset_hz: r2(m.carrierHz),
@@ -240,6 +247,12 @@ export function toJson(rec: IqRecording, m: TwoToneMeasurement): Record<string, 
   };
 }
 
+/** An expanded uncertainty (k = 2) from a standard one, never "0.00": below 0.01 dB it says so. */
+function expanded(u: number): string {
+  const x = 2 * u;
+  return x < 0.005 ? '<0.01' : x.toFixed(2);
+}
+
 function printTable(io: Io, rec: IqRecording, m: TwoToneMeasurement): void {
   const f = (x: number, d = 2) => {
     const v = Number(x.toFixed(d));
@@ -251,15 +264,21 @@ function printTable(io: Io, rec: IqRecording, m: TwoToneMeasurement): void {
     `Sample rate  ${rec.sampleRate} S/s, centre ${rec.centerHz === null ? 'not given' : `${rec.centerHz} Hz`}; ` +
       `FFT ${m.fftSize} x ${m.averages} averages, ${m.window} window, bin ${f(m.binHz)} Hz, noise bandwidth ${f(m.enbwHz)} Hz`,
   );
+  const framesInFile = Math.floor(rec.sampleCount / m.fftSize);
+  const secs = (x: number) => `${(x / rec.sampleRate).toFixed(x / rec.sampleRate < 10 ? 2 : 1)} s`;
+  lines.push(
+    `Used         ${m.averages} of ${framesInFile} frames: the first ${secs(m.averages * m.fftSize)} of ${secs(rec.sampleCount)}` +
+      (m.averages < framesInFile ? ' (--average to use more)' : ''),
+  );
   lines.push(`Carrier at   ${f(m.carrierHz, 1)} Hz from centre; tone ${f(m.toneHz, 1)} Hz`);
   lines.push('');
   const ref = m.ssb ? (m.components[m.ssb.wanted].dbfs as number) : meanDb(m);
-  lines.push('component          offset Hz    level dBFS   +/- dB   rel. tone dB   floor dBFS/bin');
+  lines.push('component          offset Hz    level dBFS  U(k=2) dB   rel. tone dB   floor dBFS/bin');
   for (const c of Object.values(m.components)) {
     const level = !c.inBand ? 'out of band' : `${c.floorLimited ? '<= ' : ''}${f(c.dbfs as number)}`;
     const rel =
       !c.inBand || ref === null ? '' : `${c.floorLimited ? '<= ' : ''}${f((c.dbfs as number) - ref)}`;
-    const u = c.uDb === null ? '' : f(c.uDb);
+    const u = c.uDb === null ? '' : expanded(c.uDb);
     lines.push(
       `${LABELS[c.role].padEnd(16)} ${f(c.offsetHz, 1).padStart(11)} ${level.padStart(13)} ${u.padStart(8)} ${rel.padStart(14)} ` +
         f(c.floorDbfs).padStart(16),
@@ -271,10 +290,14 @@ function printTable(io: Io, rec: IqRecording, m: TwoToneMeasurement): void {
   lines.push(
     s === null
       ? 'Carrier suppression  not measurable: neither sideband stands above the noise floor'
-      : `Carrier suppression  ${s.floorLimited ? 'at least ' : ''}${f(s.db)} dB${s.uDb === null ? '' : ` +/- ${f(s.uDb)}`} ` +
+      : `Carrier suppression  ${s.floorLimited ? 'at least ' : ''}${f(s.db)} dB${s.uDb === null ? '' : ` +/- ${expanded(s.uDb)} dB (k = 2)`} ` +
           '(mean of the two sidebands over the carrier)' +
           (s.floorLimited ? ', limited by the noise floor' : ''),
   );
+  lines.push(
+    'Uncertainty  U (k = 2, about 95 %) from the noise in the measured bins only; the SDR calibration and its',
+  );
+  lines.push('             flatness across the band are not included.');
   if (m.ssb) {
     const o = m.ssb.opposite;
     const cr = m.ssb.carrier;
