@@ -20,6 +20,17 @@ interface Finding {
   nodes: string[];
 }
 
+/** What inside the open dialog reaches past its right edge (a card pushed out by its fields). */
+function sticksOut(page: Page): Promise<string[]> {
+  return page.evaluate(() => {
+    const d = document.querySelector('.overlay .dialog')!.getBoundingClientRect();
+    return [...document.querySelectorAll('.overlay .dialog *')]
+      .filter((e) => e.getBoundingClientRect().right > d.right + 1)
+      .map((e) => `${e.tagName}#${e.id}.${e.getAttribute('class') ?? ''}`)
+      .slice(0, 5);
+  });
+}
+
 /** axe-core's violations of serious or critical impact on what the page shows now. */
 async function audit(page: Page): Promise<Finding[]> {
   if (!(await page.evaluate(() => 'axe' in window))) await page.evaluate(AXE);
@@ -81,6 +92,7 @@ for (const [width, height, colorScheme] of [
         'sessions-dialog-title',
       );
       noFindings('sessions dialog', await audit(page));
+      assert.deepEqual(await sticksOut(page), [], 'the sessions dialog holds its cards');
       await page.screenshot({ path: shot(`a11y-${width}-01-sessions`) });
     });
 
@@ -127,6 +139,7 @@ for (const [width, height, colorScheme] of [
       await page.locator('#receivers-dialog').waitFor();
       await page.locator('#rx-templates').filter({ hasText: /\w/ }).waitFor();
       noFindings('receivers dialog', await audit(page));
+      assert.deepEqual(await sticksOut(page), [], 'the receivers dialog holds its cards');
       await page.keyboard.press('Escape');
       await page.locator('#receivers-dialog').waitFor({ state: 'detached' });
     });
