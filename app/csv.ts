@@ -60,14 +60,15 @@ export function toCsv(
 
 /** A CSV file read back: its records as fields, each with the line it starts on (1-based). */
 export interface CsvRead {
-  separator: CsvSeparator;
+  /** The separator found; a tab-separated file (as spreadsheets copy to the clipboard) reads too. */
+  separator: CsvSeparator | 'tab';
   records: { fields: string[]; line: number }[];
 }
 
 /**
  * Reads CSV as RFC 4180 writes it (quoted fields with doubled quotes, separators and line breaks inside
- * quotes), in either dialect: a first record with more semicolons than commas outside quotes is the
- * semicolon dialect (its header may hold commas in unquoted text). A byte order mark is dropped; with
+ * quotes), in either dialect: the separator is the one of comma, semicolon and tab found most often outside
+ * quotes in the first record (a semicolon header may hold commas in unquoted text). A byte order mark is dropped; with
  * `comments`, lines starting with # are skipped. An unclosed quote is an error naming its line.
  */
 export function parseCsv(text: string, opts: { comments?: boolean } = {}): CsvRead {
@@ -75,8 +76,10 @@ export function parseCsv(text: string, opts: { comments?: boolean } = {}): CsvRe
   const firstLine = t.split(/\r?\n/).find((l) => l.trim() !== '' && !l.trimStart().startsWith('#')) ?? '';
   const outside = firstLine.replace(/"[^"]*"/g, '');
   const count = (c: string) => outside.split(c).length - 1;
-  const separator: CsvSeparator = count(';') > count(',') ? 'semicolon' : 'comma';
-  const sep = separator === 'semicolon' ? ';' : ',';
+  const [semi, comma, tab] = [count(';'), count(','), count('\t')];
+  const separator: CsvRead['separator'] =
+    tab > semi && tab > comma ? 'tab' : semi > comma ? 'semicolon' : 'comma';
+  const sep = separator === 'tab' ? '\t' : separator === 'semicolon' ? ';' : ',';
   const records: CsvRead['records'] = [];
   let fields: string[] = [];
   let field = '';

@@ -185,15 +185,23 @@ describe('nullbench fit', () => {
   it('reads RFC 4180 quoting and the semicolon dialect with decimal commas', async () => {
     const quoted = `"position","dbm"\r\n${readings1.map((x) => `"${x.position.toFixed(4)}",${x.dbm.toFixed(2)}`).join('\r\n')}\r\n`;
     const semi = `position;dbm\n${readings1.map((x) => `${x.position.toFixed(4).replace('.', ',')};${x.dbm.toFixed(2).replace('.', ',')}`).join('\n')}\n`;
+    const tab = semi.replace(/;/g, '\t');
     const plain = JSON.parse((await run([file('p.csv', csv1), '--json'])).out);
-    for (const [name, text] of [
-      ['q.csv', quoted],
-      ['s.csv', semi],
+    assert.equal(plain.read, 'comma-separated; columns position, dbm; every reading line');
+    for (const [name, text, sep] of [
+      ['q.csv', quoted, 'comma'],
+      ['s.csv', semi, 'semicolon'],
+      ['t.tsv', tab, 'tab'],
     ] as const) {
       const r = await run([file(name, text), '--json']);
       assert.equal(r.code, 0, r.err);
-      assert.deepEqual(JSON.parse(r.out), plain, name);
+      const j = JSON.parse(r.out);
+      assert.equal(j.read, `${sep}-separated; columns position, dbm; every reading line`);
+      assert.deepEqual({ ...j, read: null }, { ...plain, read: null }, name);
     }
+    // A comma-separated file has no decimal comma: "3,4" there is two cells.
+    const mixed = await run([file('m.csv', 'position,dbm\n3,4,-40\n')]);
+    assert.match(mixed.err, /line 2: expected 2 cells/);
   });
 
   it("reads the tool's own readings export: the kept carrier readings of one session, as the same fit", async () => {
@@ -215,7 +223,11 @@ describe('nullbench fit', () => {
       const mine = await run([file('own.csv', own), '--json']);
       const a = JSON.parse(r.out) as Record<string, unknown>;
       const b = JSON.parse(mine.out) as Record<string, unknown>;
-      assert.deepEqual({ ...a, outlier_lines: null }, { ...b, outlier_lines: null });
+      assert.deepEqual({ ...a, outlier_lines: null, read: null }, { ...b, outlier_lines: null, read: null });
+      assert.match(
+        String(a.read),
+        /^readings export, session [0-9a-f-]+: the \d+ kept carrier readings of \d+ rows; A from "trim A \(turns\)", B from "trim B \(turns\)", level from "level at transmitter \(dBm\)", censored from "at receiver floor \(1\/0\)"$/,
+      );
       assert.equal(a.n, kept.length);
       // Semicolon dialect, one trimmer chosen, several sessions refused unless one is named.
       const semi = readingsCsv(store, { unitId: unit.id }, 'semicolon');

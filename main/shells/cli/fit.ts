@@ -2,6 +2,7 @@
 // print the best setting, its confidence interval and the predicted depth.
 import { readFile } from 'node:fs/promises';
 import { parseCsv } from '../../../app/csv';
+import { normaliseDecimal } from '../../../app/numbers';
 import { BenchError } from '../../../app/errors';
 import { fitNull1D, fitNull2D, type NullFit1D, type NullFit2D } from '../../../app/nullfit';
 import { roundingStep, roundTo, fixed } from '../../../app/nullfit/format';
@@ -15,6 +16,8 @@ const LAYOUTS = {
 
 interface Table {
   kind: '1d' | '2d';
+  /** Which column of the file each quantity came from, and which rows, said with the result. */
+  used: string;
   rows: { values: Record<string, number>; censored: boolean; line: number }[];
 }
 
@@ -59,7 +62,8 @@ export function parseFitCsv(text: string, file: string, choice: ExportChoice = {
   } catch (e) {
     throw new BenchError('EINVAL', (e as Error).message, file);
   }
-  const decimalComma = read.separator === 'semicolon';
+  // A decimal comma can only be meant where the comma does not separate fields.
+  const decimalComma = read.separator !== 'comma';
   const records = read.records.filter(
     (r) => !(r.fields.length === 1 && (r.fields[0].trim() === '' || r.fields[0].trimStart().startsWith('#'))),
   );
@@ -68,7 +72,14 @@ export function parseFitCsv(text: string, file: string, choice: ExportChoice = {
   const [head, ...body] = records;
   const names = head.fields.map((x) => x.trim().toLowerCase());
   if (names.includes(EXPORT.point) && names.includes(EXPORT.level))
-    return fromExport(body, names, file, choice, decimalComma);
+    return fromExport(
+      body,
+      names,
+      head.fields.map((x) => x.trim()),
+      file,
+      choice,
+      decimalComma,
+    );
   if (choice.session !== undefined || choice.trims !== undefined)
     throw new BenchError(
       'EINVAL',
@@ -106,7 +117,8 @@ export function parseFitCsv(text: string, file: string, choice: ExportChoice = {
     rows.push({ values, censored, line: r.line });
   }
   if (rows.length === 0) throw new BenchError('EINVAL', 'the file has a header but no readings', file);
-  return { kind, rows };
+  const sepName = { comma: 'comma', semicolon: 'semicolon', tab: 'tab' }[read.separator];
+  return { kind, rows, used: `${sepName}-separated; columns ${names.join(', ')}; every reading line` };
 }
 
 function yesNo(raw: string, where: string): boolean {
@@ -118,7 +130,7 @@ function yesNo(raw: string, where: string): boolean {
 
 function cellNumber(raw: string, where: string, what: 'dbm' | 'position', decimalComma: boolean): number {
   const cell = raw.trim();
-  const n = Number(decimalComma ? cell.replace(',', '.') : cell);
+  const n = Number(decimalComma ? (normaliseDecimal(cell) ?? NaN) : cell);
   if (cell === '' || !Number.isFinite(n)) throw new BenchError('EINVAL', `"${raw}" is not a number`, where);
   if (what === 'dbm' && (n < PLAUSIBLE_DBM[0] || n > PLAUSIBLE_DBM[1]))
     throw new BenchError(
@@ -135,6 +147,7 @@ function cellNumber(raw: string, where: string, what: 'dbm' | 'position', decima
 function fromExport(
   body: { fields: string[]; line: number }[],
   names: string[],
+  titles: string[],
   file: string,
   choice: ExportChoice,
   decimalComma: boolean,
@@ -193,6 +206,11 @@ function fromExport(
       );
   }
   const kind: Table['kind'] = chosen.length === 1 ? '1d' : '2d';
+  const session = choice.session ?? sessions[0];
+  const used =
+    `readings export, session ${session}: the ${rows.length} kept carrier readings of ${body.length} rows; ` +
+    `${chosen.map((t, i) => `${kind === '1d' ? 'position' : i === 0 ? 'A' : 'B'} from "${titles[t.j]}"`).join(', ')}, ` +
+    `level from "${titles[col(EXPORT.level)]}"${col(EXPORT.floor) >= 0 ? `, censored from "${titles[col(EXPORT.floor)]}"` : ''}`;
   const out: Table['rows'] = rows.map((r) => {
     const where = (n: string) => `${file} line ${r.line}, column ${col(n) + 1} (${n})`;
     const level = cellNumber(at(r, EXPORT.level), where(EXPORT.level), 'dbm', decimalComma);
@@ -209,7 +227,7 @@ function fromExport(
       kind === '1d' ? { position: pos[0], dbm: level } : { pos_a: pos[0], pos_b: pos[1], dbm: level };
     return { values, censored, line: r.line };
   });
-  return { kind, rows: out };
+  return { kind, rows: out, used };
 }
 
 /** Numbers in JSON: rounded to a sensible precision, open bounds as null. */
@@ -224,6 +242,7 @@ function lines(t: Table, idx: number[]): number[] {
 function json1d(f: NullFit1D, t: Table, measurementFloor: number | null): Record<string, unknown> {
   return {
     kind: '1d',
+    read: t.used,
     best_position: num(f.bestPosition, 8),
     best_dbm: num(f.bestDbm, 5),
     best_dbm_is_upper_bound: f.cIsUpperBound,
@@ -245,6 +264,7 @@ function json1d(f: NullFit1D, t: Table, measurementFloor: number | null): Record
 function json2d(f: NullFit2D, t: Table, measurementFloor: number | null): Record<string, unknown> {
   return {
     kind: '2d',
+    read: t.used,
     best_a: num(f.bestA, 8),
     best_b: num(f.bestB, 8),
     best_dbm: num(f.bestDbm, 5),
@@ -301,6 +321,7 @@ function text1d(f: NullFit1D, t: Table): string {
       : `, ${f.nCensored} at or near the measurement floor ${fixed(f.floorDbm, 0.1)} dBm`;
   return (
     `one trimmer, ${f.n} readings${floor}\n` +
+    `read         ${t.used}\n` +
     `best position ${position(f.bestPosition, f.ci)}\n` +
     `depth         ${depth(f)}\n` +
     `slope         ${f.a.toPrecision(3)} √mW per position unit\n` +
@@ -318,6 +339,7 @@ function text2d(f: NullFit2D, t: Table): string {
     : `the trimmers' directions are ${fixed(f.angleDeg, 1)}° apart`;
   return (
     `two trimmers, ${f.n} readings${floor}\n` +
+    `read         ${t.used}\n` +
     `best A        ${position(f.bestA, f.ciA)}\n` +
     `best B        ${position(f.bestB, f.ciB)}\n` +
     `depth         ${depth(f)}\n` +
@@ -346,8 +368,9 @@ FILE.csv has a header line and one reading per line:
   position,dbm          one trimmer (position in any unit: turns, degrees, steps)
   pos_a,pos_b,dbm       two trimmers
   an optional censored column (1/0) marks readings that sat at the receiver's floor;
-  blank lines and lines starting with # are skipped. Comma or semicolon separated (semicolon files take
-  a decimal comma). Levels outside -250..+100 dBm are refused, naming the line.
+  blank lines and lines starting with # are skipped. Comma, semicolon or tab separated (found from the
+  header; semicolon and tab files may use a decimal comma). Levels outside -250..+100 dBm are refused,
+  naming the line. The result says which columns and rows it read.
 Or a readings export (nullbench export --csv): its kept carrier readings of one session, against the
 trimmer columns they carry (at the receiver floor counts as censored).
 Options:
