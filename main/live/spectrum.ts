@@ -5,7 +5,7 @@
 import { analysePath, rxToDut, validatePath } from '../../app/path';
 import { BenchError, check } from '../../app/errors';
 import { SlidingSpectrum } from '../../app/spectrum/sliding';
-import type { ParsedArgs, Session } from '../../app/api';
+import { ROLE_LABELS, type ParsedArgs, type Session } from '../../app/api';
 import type { SpectrumCallResults, SpectrumComponent, SpectrumFrame } from '../../app/api/spectrum';
 import {
   defaultFftSize,
@@ -48,6 +48,11 @@ const SPAN_TONES = 6.5;
 /** Share of 8-bit samples at 0 or 255 above which the SDR counts as overdriven (common practice: any clipping). */
 const CLIP_SHARE = 1e-4;
 
+/**
+ * How far below the injected line every other measured line must lie for the calibration to be taken
+ * (common practice: the reference must dominate its neighbours by far more than the level accuracy wanted).
+ */
+export const INJECTION_CLEAR_DB = 40;
 export interface SpectrumStreamDeps {
   live: () => LiveBench | null;
   emit: (frame: SpectrumFrame) => void;
@@ -306,6 +311,30 @@ export class SpectrumStream {
           'injection',
         );
       const strongest = seen.reduce((a, b) => ((b.dbfs as number) > (a.dbfs as number) ? b : a));
+      if (f.overload)
+        throw new BenchError(
+          'EUNSAFE',
+          'the SDR input clips: add attenuation ahead of it before calibrating (a clipped line reads low)',
+          'injection',
+        );
+      // The injected line must stand alone: another line near it means a modulated transmitter or another
+      // signal shares the input, and "the strongest line" would be a guess.
+      const crowd = seen.filter(
+        (c) => c !== strongest && (strongest.dbfs as number) - (c.dbfs as number) < INJECTION_CLEAR_DB,
+      );
+      if (crowd.length)
+        throw new BenchError(
+          'EINVAL',
+          `the injected line must stand alone, but ${crowd
+            .map((c) => `${ROLE_LABELS[c.role].toLowerCase()} (${(c.dbfs as number).toFixed(1)} dBFS)`)
+            .join(
+              ', ',
+            )} stand${crowd.length === 1 ? 's' : ''} within ${INJECTION_CLEAR_DB} dB of the strongest, ` +
+            `${ROLE_LABELS[strongest.role].toLowerCase()} at ${(strongest.dbfs as number).toFixed(1)} dBFS: a modulated ` +
+            'transmitter or another signal is at the SDR input. Calibrate with the generator alone (transmitter off), ' +
+            'then reconnect the transmitter.',
+          'injection',
+        );
       cal = injectionDbfsCalibration({
         ...a.injection,
         readDbfs: strongest.dbfs as number,

@@ -122,18 +122,45 @@ describe('Service spectrumStart/spectrumKeep (iqsim)', () => {
       const carrier = f.components.find((c) => c.role === 'carrier')!;
       assert.equal(carrier.floorLimited, true);
 
-      // The upper tone stands in for a generator: 24 dBm - 50 dB of path = -26 dBm at the SDR input. Read
-      // as the strongest component, it must give back the sim SDR's own figure, -14 dBm at 0 dBFS.
-      const cal = await service.invoke('spectrumCalibrate', {
+      // A modulated transmitter at the input is no reference injection: its two tones stand level with each
+      // other, so "the strongest line" would be a guess. Refused, saying why and what to do.
+      const refused = await service.call('spectrumCalibrate', {
         injection: { generatorDbm: tx.sidebandDbm(), padDb: 50 },
       });
-      assert.equal(cal.from, 'injection');
-      assert.ok(Math.abs(cal.dbmAtFullScale - -14) < 0.3, `${cal.dbmAtFullScale} dBm at 0 dBFS`);
+      assert.equal(refused.ok, false);
+      assert.match(
+        refused.ok ? '' : refused.message,
+        /the injected line must stand alone, but .*within 40 dB of the strongest.*Calibrate with the generator alone/,
+      );
       const kept = await service.invoke('spectrumKeep', { note: '' });
       const c = kept.find((r) => r.role === 'carrier')!;
       assert.equal(c.floorLimited, true);
     } finally {
       await ctx.cleanup();
+    }
+  });
+
+  it('takes the full-scale figure from a lone injected line', async () => {
+    // A generator alone at the carrier's place: the line at -20 dBFS, the tone positions 60 dB below it.
+    const server = await IqSimServer.start({
+      sampleRate: 256_000,
+      generator: dsbGenerator({ carrierHz: 7.1e6, toneHz: 1000, suppressionDb: -60, toneDbfs: -80 }),
+    });
+    const ctx = await serviceWithSession({ fast: false });
+    const { service } = ctx;
+    try {
+      await service.invoke('openSession', { sessionId: ctx.session.id });
+      await service.invoke('spectrumStart', { source: `iq:127.0.0.1:${server.port}` });
+      await nextFrame((cb) => service.listen('spectrum', cb), 2);
+      // -10 dBm through a 30 dB pad is -40 dBm at the input, read at -20 dBFS: 0 dBFS is -20 dBm
+      // (the definition of the full-scale figure, app/spectrum/dbfs.ts).
+      const cal = await service.invoke('spectrumCalibrate', { injection: { generatorDbm: -10, padDb: 30 } });
+      assert.equal(cal.from, 'injection');
+      assert.ok(Math.abs(cal.dbmAtFullScale - -20) < 0.3, `${cal.dbmAtFullScale} dBm at 0 dBFS`);
+    } finally {
+      await service.invoke('spectrumStop', {}).catch(() => undefined);
+      await ctx.cleanup();
+      await server.close();
     }
   });
 
