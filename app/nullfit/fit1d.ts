@@ -23,7 +23,7 @@ import {
   type ResolvedFitOptions,
 } from './readings';
 import { floorBound } from './profile';
-import { coverageFactor, lowest, highest } from './stats';
+import { coverageFactor, keptScatter, lowest, highest } from './stats';
 
 export interface Reading1D {
   /** Trimmer position in the user's unit (turns, degrees, steps). */
@@ -252,12 +252,28 @@ function summarise(
   const c2 = dbmToMw(C);
   const res = fn(lm.params);
   const { h } = normalEquations(res, lm.weights);
-  const used = p.c.filter((k, i) => !k.censored || res.r[i] !== 0).length;
+  const usedAt = (i: number) => !p.c[i].censored || res.r[i] !== 0;
+  const used = p.c.filter((_, i) => usedAt(i)).length;
   const dofFit = used - 3;
   const sHat = dofFit >= 1 ? Math.sqrt((2 * lm.cost) / dofFit) : NaN;
   const estimated = Number.isFinite(sHat) && sHat > o.uDb;
-  const sigmaDb = estimated ? sHat : o.uDb > 0 ? o.uDb : NaN;
-  const dof = estimated ? dofFit : Infinity;
+  const robustSigma = estimated ? sHat : o.uDb > 0 ? o.uDb : NaN;
+  // Outliers are flagged against the robust scatter; the scatter stated (and every interval) then comes
+  // from the readings kept, so flagged readings no longer widen it.
+  const outliers = res.r
+    .map((v, i) =>
+      !p.c[i].censored && Math.abs(v) > 3 * (robustSigma || 0) && Math.abs(v) > o.lossScaleDb ? i : -1,
+    )
+    .filter((i) => i >= 0);
+  const { sigmaDb, dof } = keptScatter(
+    res.r,
+    usedAt,
+    outliers,
+    3,
+    o.uDb,
+    robustSigma,
+    estimated ? dofFit : Infinity,
+  );
   const k = coverageFactor(o.level, dof);
   const { cov, undetermined } = covariance(h, Number.isFinite(sigmaDb) ? sigmaDb ** 2 : 1);
   const sd = (j: number): number =>
@@ -265,11 +281,6 @@ function summarise(
 
   const uncensored = res.r.filter((_, i) => !p.c[i].censored);
   const residualDb = Math.sqrt(uncensored.reduce((s, v) => s + v * v, 0) / uncensored.length);
-  const outliers = res.r
-    .map((v, i) =>
-      !p.c[i].censored && Math.abs(v) > 3 * (sigmaDb || 0) && Math.abs(v) > o.lossScaleDb ? i : -1,
-    )
-    .filter((i) => i >= 0);
 
   // When c² is not pinned down, say how loud it could be: the one-sided profile bound at `level`.
   const { open: cIsUpperBound, bound } = floorBound(fn, lm, 2, o, sigmaDb, sd(2));

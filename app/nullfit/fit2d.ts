@@ -28,7 +28,7 @@ import {
   type FitOptions,
   type ResolvedFitOptions,
 } from './readings';
-import { coverageFactor, ellipseRadius2, lowest, highest } from './stats';
+import { coverageFactor, ellipseRadius2, lowest, highest, keptScatter } from './stats';
 import type { FitDesign } from './fit1d';
 
 export interface Reading2D {
@@ -409,13 +409,30 @@ function summarise(
   const [a0, b0, g1, u, v, C] = lm.params;
   const c2 = dbmToMw(C);
   const { h } = normalEquations(lm, lm.weights);
-  const used = p.c.filter((k, i) => !k.censored || lm.r[i] !== 0).length;
+  const usedAt = (i: number) => !p.c[i].censored || lm.r[i] !== 0;
+  const used = p.c.filter((_, i) => usedAt(i)).length;
   // The valley model has four free parameters (one anchor coordinate, g1, u, C; the other is held, v is 0).
-  const dofFit = used - (valleyModel ? 4 : 6);
+  const nParams = valleyModel ? 4 : 6;
+  const dofFit = used - nParams;
   const sHat = dofFit >= 1 ? Math.sqrt((2 * lm.cost) / dofFit) : NaN;
   const estimated = Number.isFinite(sHat) && sHat > o.uDb;
-  const sigmaDb = estimated ? sHat : o.uDb > 0 ? o.uDb : NaN;
-  const dof = estimated ? dofFit : Infinity;
+  const robustSigma = estimated ? sHat : o.uDb > 0 ? o.uDb : NaN;
+  // Outliers are flagged against the robust scatter; the scatter stated (and every interval) then comes
+  // from the readings kept, so flagged readings no longer widen it.
+  const outliers = lm.r
+    .map((x, i) =>
+      !p.c[i].censored && Math.abs(x) > 3 * (robustSigma || 0) && Math.abs(x) > o.lossScaleDb ? i : -1,
+    )
+    .filter((i) => i >= 0);
+  const { sigmaDb, dof } = keptScatter(
+    lm.r,
+    usedAt,
+    outliers,
+    nParams,
+    o.uDb,
+    robustSigma,
+    estimated ? dofFit : Infinity,
+  );
   const k = coverageFactor(o.level, dof);
   const { cov, undetermined } = valleyModel
     ? valleyCovariance(h, Number.isFinite(sigmaDb) ? sigmaDb ** 2 : 1, valleyFit.holdB)
@@ -504,11 +521,6 @@ function summarise(
   const cDbm = cIsUpperBound ? bound : C;
   const uncensored = lm.r.filter((_, i) => !p.c[i].censored);
   const residualDb = Math.sqrt(uncensored.reduce((s, x) => s + x * x, 0) / uncensored.length);
-  const outliers = lm.r
-    .map((x, i) =>
-      !p.c[i].censored && Math.abs(x) > 3 * (sigmaDb || 0) && Math.abs(x) > o.lossScaleDb ? i : -1,
-    )
-    .filter((i) => i >= 0);
   return {
     kind: '2d',
     bestA: best.a,

@@ -171,3 +171,35 @@ export function highest(xs: readonly number[]): number {
   for (const x of xs) if (x > m) m = x;
   return m;
 }
+
+/**
+ * The scatter a fit states once outliers are flagged: the root mean square of the kept readings'
+ * residuals over their degrees of freedom (n kept − parameters), never below the meter's own `uDb`. With
+ * no outlier, or too few readings kept to estimate it, the fit's own figure (`sigma`, `dof`) stands.
+ */
+export function keptScatter(
+  r: readonly number[],
+  used: (i: number) => boolean,
+  outliers: readonly number[],
+  params: number,
+  uDb: number,
+  sigma: number,
+  dof: number,
+): { sigmaDb: number; dof: number } {
+  if (!outliers.length) return { sigmaDb: sigma, dof };
+  const out = new Set(outliers);
+  let ss = 0;
+  let n = 0;
+  r.forEach((v, i) => {
+    if (used(i) && !out.has(i)) {
+      ss += v * v;
+      n++;
+    }
+  });
+  const dofKept = n - params;
+  if (dofKept < 1) return { sigmaDb: sigma, dof };
+  const s = Math.sqrt(ss / dofKept);
+  return s > uDb
+    ? { sigmaDb: s, dof: dofKept }
+    : { sigmaDb: uDb > 0 ? uDb : s, dof: uDb > 0 ? Infinity : dofKept };
+}
