@@ -43,7 +43,7 @@ describe('a null fit with outliers states the scatter of the readings it kept', 
       const readings = sample1D(BENCH, POSITIONS, NOISE_DB, seed);
       readings[3].dbm += 9; // a knock on the bench
       readings[16].dbm -= 6; // a dropout
-      const f = fitNull1D(readings, { floorDbm: BENCH.floorDbm });
+      const f = fitNull1D(readings, { floorDbm: BENCH.floorDbm ?? undefined });
       assert.ok(f.outliers.includes(3) && f.outliers.includes(16), `seed ${seed}: outliers ${f.outliers}`);
       sigmas.push(f.sigmaDb);
       if (f.ci[0] <= BENCH.x0 && BENCH.x0 <= f.ci[1]) covered++;

@@ -11,7 +11,8 @@ import {
 } from '../../../app/spectrum/measure';
 import { Window, WINDOW_NAMES } from '../../../app/spectrum/window';
 import { openRecording } from '../../sources/iq/open';
-import type { IqRecording } from '../../sources/iq/recording';
+import { clipLevel, type IqRecording } from '../../sources/iq/recording';
+import { CLIP_REFUSE_FRACTION, clipFlag, coincidenceFlags, type IqFlag } from '../../../app/spectrum/flags';
 import { numberOption, parseOptions, reportError, type Command, type Io, machineJson } from './command';
 
 const DEFAULT_AVERAGES = 100;
@@ -145,11 +146,19 @@ export interface RecordingMeasureOptions {
   maxAverages: number;
 }
 
+/** A recording's figures with the warnings they carry (app/spectrum/flags.ts). */
+export type RecordingMeasurement = TwoToneMeasurement & {
+  /** Sample components (I or Q) at or beyond full scale, of those read. */
+  clippedComponents: number;
+  componentsRead: number;
+  flags: IqFlag[];
+};
+
 /** Averages up to maxAverages FFT frames of a recording, reading one frame at a time. */
 export async function measureRecording(
   rec: IqRecording,
   o: RecordingMeasureOptions,
-): Promise<TwoToneMeasurement> {
+): Promise<RecordingMeasurement> {
   const fs = rec.sampleRate;
   if (!(fs > 0)) throw new BenchError('EINVAL', `sample rate is ${fs}`, 'sampleRate');
   if (!(Number.isFinite(o.toneHz) && o.toneHz > 0))
@@ -172,14 +181,34 @@ export async function measureRecording(
   const window = Window.byName(o.window, n, '--window');
   const frames = Math.min(Math.floor(rec.sampleCount / n), o.maxAverages);
   const avg = await SpectrumAverager.create(window);
+  // Full scale as the recording's own format has it: files are counted as the live stream is.
+  const clip = clipLevel(rec.format);
+  let clipped = 0;
   try {
-    for (let f = 0; f < frames; f++) avg.pushComplex(await rec.read(f * n, n));
-    return measureSpectrum(avg.spectrum(), {
+    for (let f = 0; f < frames; f++) {
+      const x = await rec.read(f * n, n);
+      for (let i = 0; i < x.length; i++) if (Math.abs(x[i]) >= clip) clipped++;
+      avg.pushComplex(x);
+    }
+    const total = frames * n * 2;
+    const cf = clipFlag(clipped, total);
+    if (cf && clipped / total > CLIP_REFUSE_FRACTION)
+      throw new BenchError(
+        'EINVAL',
+        `${cf.message} More than ${100 * CLIP_REFUSE_FRACTION} % of the samples clip: no level is stated from this recording`,
+        rec.path,
+      );
+    const m = measureSpectrum(avg.spectrum(), {
       sampleRate: fs,
       carrierHz: o.carrierHz,
       toneHz: o.toneHz,
       marginDb: o.marginDb,
     });
+    const flags = [
+      ...(cf ? [cf] : []),
+      ...coincidenceFlags({ sampleRate: fs, binHz: m.binHz, carrierHz: m.carrierHz, toneHz: m.toneHz }),
+    ];
+    return { ...m, clippedComponents: clipped, componentsRead: total, flags };
   } finally {
     avg.dispose();
   }
@@ -188,7 +217,7 @@ export async function measureRecording(
 const r2 = (x: number | null): number | null => (x === null ? null : Math.round(x * 100) / 100);
 
 /** The JSON the CLI prints: snake_case, dB rounded to 0.01. */
-export function toJson(rec: IqRecording, m: TwoToneMeasurement): Record<string, unknown> {
+export function toJson(rec: IqRecording, m: RecordingMeasurement): Record<string, unknown> {
   const c = m.components;
   const comp = (role: ComponentRole) => ({
     role,
@@ -208,6 +237,9 @@ export function toJson(rec: IqRecording, m: TwoToneMeasurement): Record<string, 
     window: m.window,
     n: m.fftSize,
     averages: m.averages,
+    // What the figures carry with them: each warning as a code and a sentence (empty when none applies).
+    flags: m.flags,
+    clipped_components: m.clippedComponents,
     // How much of the recording the figures come from: the first `averages` frames of `frames_in_file`.
     frames_in_file: Math.floor(rec.sampleCount / m.fftSize),
     seconds_used: r2((m.averages * m.fftSize) / rec.sampleRate),
@@ -253,7 +285,7 @@ function expanded(u: number): string {
   return x < 0.005 ? '<0.01' : x.toFixed(2);
 }
 
-function printTable(io: Io, rec: IqRecording, m: TwoToneMeasurement): void {
+function printTable(io: Io, rec: IqRecording, m: RecordingMeasurement): void {
   const f = (x: number, d = 2) => {
     const v = Number(x.toFixed(d));
     return (v === 0 ? 0 : v).toFixed(d);
@@ -317,6 +349,10 @@ function printTable(io: Io, rec: IqRecording, m: TwoToneMeasurement): void {
     lines.push(
       `${name}         ${b}${f(x.db)} dB relative to one tone, ${b}${f(x.pepDb)} dB relative to PEP`,
     );
+  }
+  if (m.flags.length) {
+    lines.push('');
+    for (const fl of m.flags) lines.push(`WARNING (${fl.code}): ${fl.message}`);
   }
   io.out(lines.join('\n') + '\n');
 }

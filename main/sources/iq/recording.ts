@@ -26,6 +26,8 @@ export interface IqRecording {
   readonly sampleCount: number;
   /** Human-readable format, e.g. "16-bit signed little-endian". */
   readonly formatLabel: string;
+  /** The stored sample format (its width says where full scale is). */
+  readonly format: SampleFormat;
   /**
    * Reads complex samples start .. start+count-1 (clipped to the recording) as interleaved float32
    * I,Q with full scale 1.0.
@@ -113,7 +115,7 @@ export class ContiguousRecording implements IqRecording {
     readonly sampleRate: number,
     readonly centerHz: number | null,
     readonly sampleCount: number,
-    private readonly format: SampleFormat,
+    readonly format: SampleFormat,
     private readonly dataOffset: number,
   ) {
     this.formatLabel = describeFormat(format);
@@ -202,4 +204,12 @@ export async function openForReading(path: string): Promise<FileHandle> {
     if (code === 'ENOENT') throw new BenchError('ENOTFOUND', 'no such file', path);
     throw new BenchError('EIO', `cannot open: ${(e as Error).message}`, path);
   }
+}
+
+/**
+ * The magnitude at or beyond which a component sits at full scale, as decoded (full scale 1.0): the top code
+ * of an integer format is 1 − 2^−(bits−1) (the bottom one −1); a float sample at ±1.0 or beyond.
+ */
+export function clipLevel(f: SampleFormat): number {
+  return f.kind === 'f' ? 1 : 1 - 2 ** -(f.bits - 1);
 }
