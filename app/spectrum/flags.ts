@@ -3,7 +3,7 @@
 // the user gave, and the samples. Each is a code and a sentence, printed with the figures (never instead).
 
 export interface IqFlag {
-  code: 'clipped' | 'line-on-dc' | 'image-on-line' | 'line-on-line' | 'out-of-band';
+  code: 'clipped' | 'line-on-dc' | 'image-on-line' | 'line-on-line' | 'search-edge';
   message: string;
 }
 
@@ -92,4 +92,12 @@ export function clipFlag(clipped: number, total: number): IqFlag | null {
     code: 'clipped',
     message: `${clipped} of ${total} sample components (${pct < 0.01 ? '<0.01' : pct.toFixed(2)} %) sit at or beyond full scale: the SDR input clipped, so the tones read low and clipping products appear. Add attenuation ahead of the SDR.`,
   };
+}
+
+/** A sideband found at the edge of its search window (a transmitter's crystal further off than searched). */
+export function searchEdgeFlags(edge: readonly ('upper' | 'lower')[], searchHz: number): IqFlag[] {
+  return edge.map((side) => ({
+    code: 'search-edge',
+    message: `the ${side} sideband was found at the edge of its ±${searchHz.toFixed(0)} Hz search window: the true line may lie beyond (a transmitter's crystal off by more), so its level and every figure from it may be a neighbour's, and no DSB/SSB call is made. Give the carrier's real offset (--carrier-hz) or a wider --search-hz.`,
+  }));
 }

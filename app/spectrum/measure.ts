@@ -29,7 +29,10 @@ export interface TwoToneParams {
   carrierHz?: number;
   /** Audio tone, Hz, > 0: the sidebands are at carrierHz +/- toneHz, inside the band. */
   toneHz: number;
-  /** How far from where expected a sideband may be found, Hz. Default toneHz/4. */
+  /**
+   * How far from where expected a sideband may be found, Hz: wide enough for a transmitter's crystal being
+   * off. Default 0.45 × toneHz (never half the tone or more, where the search would meet the carrier).
+   */
   searchHz?: number;
   /** A component must read this many dB above the local mean floor to be measured (default 6, common practice). */
   marginDb?: number;
@@ -97,7 +100,17 @@ export interface TwoToneMeasurement {
   ssb: { wanted: 'upper' | 'lower'; opposite: BoundedDb; carrier: BoundedDb } | null;
   /** True when the suppression figure is a bound set by the noise floor. */
   floorLimited: boolean;
+  /** How far from where expected each sideband was searched, Hz. */
+  searchHz: number;
+  /**
+   * Sidebands found at the very edge of their search window: the true line may lie beyond it, so its level
+   * (and every figure from it) may be a neighbour's. The SSB call is not made then.
+   */
+  searchEdge: ('upper' | 'lower')[];
 }
+
+/** The default search half-width as a fraction of the tone (see TwoToneParams.searchHz). */
+export const DEFAULT_SEARCH_OF_TONE = 0.45;
 
 /** A sideband this much stronger than the other marks an SSB signal (our choice). */
 const SSB_DOMINANCE_DB = 10;
@@ -151,7 +164,7 @@ export function checkTwoToneParams(
     `${p.toneHz} Hz is only ${(p.toneHz / binHz).toFixed(1)} bins at fftSize ${fftSize}; the ${window.name} window ` +
       `needs at least ${needBins} bins (${(needBins * binHz).toFixed(1)} Hz): use a larger FFT`,
   );
-  const searchHz = p.searchHz ?? p.toneHz / 4;
+  const searchHz = p.searchHz ?? DEFAULT_SEARCH_OF_TONE * p.toneHz;
   check(
     Number.isFinite(searchHz) && searchHz >= 0 && searchHz < p.toneHz / 2,
     'searchHz',
@@ -213,6 +226,9 @@ export function measureSpectrum(spectrum: AveragedSpectrum, params: TwoToneParam
   const searchThreshold = Math.max(threshold, noiseExceedance(averages, FALSE_ALARM / (2 * search + 1)));
   const upPeak = findPeak(power, window, carrier0 + toneBins, search);
   const loPeak = findPeak(power, window, carrier0 - toneBins, search);
+  // A peak on the last bin of its window: what lies beyond was not looked at.
+  const atEdge = (peak: { bin: number }, expected: number) =>
+    search > 0 && Math.abs(Math.round(peak.bin) - Math.round(expected)) >= search;
   const zones0 = [
     ...zonesFor(carrier0, toneBins),
     { center: upPeak.bin, halfWidth: guard },
@@ -220,6 +236,10 @@ export function measureSpectrum(spectrum: AveragedSpectrum, params: TwoToneParam
   ];
   const upSeen = upPeak.binPower * scale >= searchThreshold * localFloor(upPeak.bin, zones0);
   const loSeen = loPeak.binPower * scale >= searchThreshold * localFloor(loPeak.bin, zones0);
+  const searchEdge: ('upper' | 'lower')[] = [
+    ...(upSeen && atEdge(upPeak, carrier0 + toneBins) ? (['upper'] as const) : []),
+    ...(loSeen && atEdge(loPeak, carrier0 - toneBins) ? (['lower'] as const) : []),
+  ];
 
   // Both seen and comparable (DSB): the carrier sits half-way between them, exactly. One dominant
   // (SSB) or only one seen: the carrier is one tone away from it, and the other is read where it belongs.
@@ -324,7 +344,8 @@ export function measureSpectrum(spectrum: AveragedSpectrum, params: TwoToneParam
       floorLimited: limitedS,
       uDb: limitedS ? null : rss(car.uDb as number, meanU),
     };
-    if (-weakDb >= SSB_DOMINANCE_DB || weak.floorLimited) {
+    // The DSB/SSB call only when it is unambiguous: not with a sideband found at its window's edge.
+    if ((-weakDb >= SSB_DOMINANCE_DB || weak.floorLimited) && searchEdge.length === 0) {
       ssb = {
         wanted: strong.role === 'upper' ? 'upper' : 'lower',
         opposite: {
@@ -376,6 +397,8 @@ export function measureSpectrum(spectrum: AveragedSpectrum, params: TwoToneParam
     imd3: imd('imd3Upper', 'imd3Lower'),
     imd5: imd('imd5Upper', 'imd5Lower'),
     ssb,
+    searchHz: p.searchHz,
+    searchEdge,
     floorLimited: suppression === null || suppression.floorLimited,
   };
 }

@@ -14,7 +14,14 @@ const PLAN = { sampleRate: 48_000, binHz: 48_000 / 8192, toneHz: 1000 };
 /** A 16-bit stereo WAV (I left, Q right) of a DSB signal: carrier `carrierDb` below each tone. */
 function dsbWav(
   path: string,
-  o: { carrierHz: number; gain: number; carrierDb: number; seconds?: number },
+  o: {
+    carrierHz: number;
+    gain: number;
+    carrierDb: number;
+    seconds?: number;
+    clicks?: number;
+    toneHz?: number;
+  },
 ): void {
   const fs = PLAN.sampleRate;
   const n = Math.round(fs * (o.seconds ?? 1));
@@ -26,8 +33,8 @@ function dsbWav(
     let q = 0;
     for (const [f, a] of [
       [o.carrierHz, c],
-      [o.carrierHz + PLAN.toneHz, 1],
-      [o.carrierHz - PLAN.toneHz, 1],
+      [o.carrierHz + (o.toneHz ?? PLAN.toneHz), 1],
+      [o.carrierHz - (o.toneHz ?? PLAN.toneHz), 1],
     ]) {
       i += a * Math.cos(2 * Math.PI * f * t);
       q += a * Math.sin(2 * Math.PI * f * t);
@@ -132,5 +139,34 @@ describe('nullbench measure carries its warnings', () => {
     assert.equal(r.code, 0, r.err);
     const codes = JSON.parse(r.out).flags.map((x: { code: string }) => x.code);
     assert.ok(codes.includes('line-on-dc') && codes.includes('image-on-line'), codes.join());
+  });
+
+  it('finds the lines of a transmitter whose crystal is 150 Hz off a 500 Hz tone, and makes no SSB call of DSB', async () => {
+    // The issue's case: with a ±tone/4 search this read 28.8 dB and called the DSB signal SSB.
+    const f = join(t.dir, 'crystal.wav');
+    dsbWav(f, { carrierHz: 7450, gain: 0.2, carrierDb: 40, toneHz: 500 });
+    const r = await runMeasure([f, '--tone-hz', '500', '--carrier-hz', '7300', '--json']);
+    assert.equal(r.code, 0, r.err);
+    const j = JSON.parse(r.out);
+    assert.ok(Math.abs(j.suppression_db - 40) < 0.5, `${j.suppression_db} dB`);
+    assert.ok(Math.abs(j.carrier_offset_hz - 7450) < 3, `carrier found at ${j.carrier_offset_hz} Hz`);
+    assert.equal(j.ssb, null);
+    assert.ok(!j.flags.some((x: { code: string }) => x.code === 'search-edge'));
+  });
+
+  it('flags a line found at the edge of its search window, and then makes no DSB/SSB call', async () => {
+    const f = join(t.dir, 'far.wav');
+    // 240 Hz off a 500 Hz tone: beyond the ±225 Hz window (0.45 × 500).
+    dsbWav(f, { carrierHz: 7540, gain: 0.2, carrierDb: 40, toneHz: 500 });
+    const r = await runMeasure([f, '--tone-hz', '500', '--carrier-hz', '7300', '--json']);
+    assert.equal(r.code, 0, r.err);
+    const j = JSON.parse(r.out);
+    const edge = j.flags.filter((x: { code: string }) => x.code === 'search-edge');
+    assert.ok(edge.length >= 1, JSON.stringify(j.flags));
+    assert.match(edge[0].message, /found at the edge of its ±225 Hz search window/);
+    assert.equal(j.ssb, null);
+    const bad = await runMeasure([f, '--tone-hz', '500', '--search-hz', '300']);
+    assert.equal(bad.code, 2);
+    assert.match(bad.err, /--search-hz: must be from 0 to below half the tone \(250 Hz\)/);
   });
 });

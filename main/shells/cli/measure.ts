@@ -12,7 +12,13 @@ import {
 import { Window, WINDOW_NAMES } from '../../../app/spectrum/window';
 import { openRecording } from '../../sources/iq/open';
 import { clipLevel, type IqRecording } from '../../sources/iq/recording';
-import { CLIP_REFUSE_FRACTION, clipFlag, coincidenceFlags, type IqFlag } from '../../../app/spectrum/flags';
+import {
+  CLIP_REFUSE_FRACTION,
+  clipFlag,
+  coincidenceFlags,
+  searchEdgeFlags,
+  type IqFlag,
+} from '../../../app/spectrum/flags';
 import { numberOption, parseOptions, reportError, type Command, type Io, machineJson } from './command';
 
 const DEFAULT_AVERAGES = 100;
@@ -44,6 +50,8 @@ Options:
   --average K        average at most K spectra (default ${DEFAULT_AVERAGES}, fewer if the recording is shorter);
                      --averages is the older name, still accepted
   --margin-db M      a component must stand M dB above the local noise floor to count (default 6)
+  --search-hz S      look for each sideband up to S Hz from where the carrier and tone put it, for a
+                     transmitter whose crystal is off (default 0.45 x the tone; below half the tone)
   --json             print one JSON object (carrier_dbfs, upper_dbfs, lower_dbfs, suppression_db, floor_limited, ...)
 A component too close to the noise floor is reported as a bound (floor_limited): its level is "at most",
 the suppression "at least". Suppression is the mean power of the two sidebands over the carrier.
@@ -62,6 +70,7 @@ give its offset with --carrier-hz, or the spike reads as carrier.`,
           average: { type: 'string' },
           averages: { type: 'string' },
           'margin-db': { type: 'string' },
+          'search-hz': { type: 'string' },
           json: { type: 'boolean', default: false },
           help: { type: 'boolean', short: 'h', default: false },
         },
@@ -93,6 +102,8 @@ give its offset with --carrier-hz, or the spike reads as carrier.`,
           toneHz,
           carrierHz,
           marginDb,
+          searchHz:
+            values['search-hz'] === undefined ? undefined : numberOption(values['search-hz'], 'search-hz'),
           window: windowName,
           fftSize: values.fft === undefined ? undefined : numberOption(values.fft, 'fft'),
           maxAverages,
@@ -129,7 +140,7 @@ const OPTION_OF: Record<string, string> = {
   carrierHz: '--carrier-hz',
   fftSize: '--fft',
   marginDb: '--margin-db',
-  searchHz: '--tone-hz',
+  searchHz: '--search-hz',
 };
 
 function asOptionError(e: unknown): unknown {
@@ -141,6 +152,8 @@ export interface RecordingMeasureOptions {
   toneHz: number;
   carrierHz: number;
   marginDb?: number;
+  /** How far from where expected each sideband is searched, Hz (default 0.45 × the tone). */
+  searchHz?: number;
   window: (typeof WINDOW_NAMES)[number];
   fftSize?: number;
   maxAverages: number;
@@ -203,10 +216,12 @@ export async function measureRecording(
       carrierHz: o.carrierHz,
       toneHz: o.toneHz,
       marginDb: o.marginDb,
+      searchHz: o.searchHz,
     });
     const flags = [
       ...(cf ? [cf] : []),
       ...coincidenceFlags({ sampleRate: fs, binHz: m.binHz, carrierHz: m.carrierHz, toneHz: m.toneHz }),
+      ...searchEdgeFlags(m.searchEdge, m.searchHz),
     ];
     return { ...m, clippedComponents: clipped, componentsRead: total, flags };
   } finally {
